@@ -1,0 +1,92 @@
+import express, { type Express } from 'express'
+import session from 'express-session'
+import connectPgSimple from 'connect-pg-simple'
+import helmet from 'helmet'
+import fs from 'node:fs'
+import path from 'node:path'
+import type { Pool } from 'pg'
+import type { DataSource } from 'typeorm'
+import type { Config } from './config'
+import { createPassport } from './auth/passport'
+import { errorHandler, notFoundHandler } from './errors/error-handler'
+import { requireAuth } from './middleware/auth'
+import { PostgresRateLimitStore } from './middleware/pg-rate-limit-store'
+import { projectRoutes } from './routes/project.routes'
+import { SESSION_COOKIE, sessionRoutes } from './routes/session.routes'
+import { userRoutes } from './routes/user.routes'
+import { ProjectService } from './services/project.service'
+import { UserService } from './services/user.service'
+
+export interface AppDeps {
+  config: Config
+  db: DataSource
+}
+
+/** Builds the Express app: middleware, routes, client, errors. No listening and no connecting here. */
+export function createApp({ config, db }: AppDeps): Express {
+  const app = express()
+  app.disable('x-powered-by')
+  app.set('trust proxy', config.TRUST_PROXY === 'false' ? false : config.TRUST_PROXY)
+
+  const users = new UserService(db)
+  const projects = new ProjectService(db)
+  const passport = createPassport(users)
+  const PgStore = connectPgSimple(session)
+  // The sessions share TypeORM's pg pool: one pool per process, and it reconnects by itself after an outage.
+  const pool = (db.driver as unknown as { master: Pool }).master
+
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        directives: {
+          'img-src': ["'self'", 'data:', 'blob:'],
+          'font-src': ["'self'", 'data:'],
+          'style-src': ["'self'", "'unsafe-inline'"],
+          'upgrade-insecure-requests': config.COOKIE_SECURE ? [] : null,
+        },
+      },
+    }),
+  )
+
+  const api = express.Router()
+  api.use(express.json({ limit: '1mb' }))
+  api.get('/health', async (_req, res) => {
+    await db.query('SELECT 1')
+    res.json({ status: 'ok', database: 'up' })
+  })
+  api.use(
+    session({
+      name: SESSION_COOKIE,
+      store: new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60 }),
+      secret: config.SESSION_SECRET!,
+      resave: false,
+      saveUninitialized: false,
+      rolling: true,
+      cookie: {
+        httpOnly: true,
+        sameSite: 'lax',
+        secure: config.COOKIE_SECURE,
+        maxAge: config.SESSION_MAX_AGE_HOURS * 3600_000,
+        path: '/',
+      },
+    }),
+  )
+  api.use(passport.initialize())
+  api.use(passport.session())
+  api.use(sessionRoutes({ config, passport, users, rateLimitStore: new PostgresRateLimitStore(db) }))
+  api.use('/users', requireAuth, userRoutes(users))
+  api.use('/projects', requireAuth, projectRoutes(projects))
+  api.use(notFoundHandler)
+  api.use(errorHandler)
+  app.use('/api', api)
+
+  const clientDir = path.resolve(config.CLIENT_DIST)
+  const indexHtml = path.join(clientDir, 'index.html')
+  if (fs.existsSync(indexHtml)) {
+    app.use(express.static(clientDir, { index: false, maxAge: '1h', immutable: false }))
+    // History-mode routes of the single-page client all load index.html.
+    app.get(/^\/(?!api\/).*/, (_req, res) => res.sendFile(indexHtml, { headers: { 'Cache-Control': 'no-cache' } }))
+  }
+  app.use(errorHandler)
+  return app
+}

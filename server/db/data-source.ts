@@ -1,0 +1,23 @@
+import 'reflect-metadata'
+import { DataSource } from 'typeorm'
+import { entities } from '../entities'
+import { migrations } from '../migrations'
+
+/** One DataSource for the app, the CLI scripts and the tests; never `synchronize`. */
+export function createDataSource(databaseUrl: string, options: { poolSize?: number } = {}): DataSource {
+  return new DataSource({
+    type: 'postgres',
+    url: databaseUrl,
+    entities,
+    migrations,
+    synchronize: false,
+    migrationsRun: false,
+    logging: ['error', 'warn'],
+    poolSize: options.poolSize ?? 10,
+    extra: {
+      connectionTimeoutMillis: 5000,
+      idleTimeoutMillis: 30000,
+      application_name: 'startproof',
+    },
+  })
+}

@@ -1,0 +1,45 @@
+import { Column, CreateDateColumn, Entity, JoinColumn, ManyToOne, OneToMany, PrimaryGeneratedColumn, UpdateDateColumn, type Relation } from 'typeorm'
+import { Organization } from './organization.entity'
+import { ProjectMember } from './project-member.entity'
+
+@Entity({ name: 'project' })
+export class Project {
+  @PrimaryGeneratedColumn('uuid')
+  id: string
+
+  @Column({ type: 'uuid', name: 'organization_id' })
+  organizationId: string
+
+  @ManyToOne(() => Organization, { onDelete: 'RESTRICT' })
+  @JoinColumn({ name: 'organization_id' })
+  organization: Relation<Organization>
+
+  /** Short reference printed on reports, e.g. `VXH-CP`. */
+  @Column({ type: 'text', unique: true })
+  code: string
+
+  @Column({ type: 'text' })
+  name: string
+
+  @Column({ type: 'text', name: 'site_name' })
+  siteName: string
+
+  @Column({ type: 'text', name: 'site_address' })
+  siteAddress: string
+
+  /** IANA time zone of the site, e.g. `America/Chicago`; signatures show local time in it. */
+  @Column({ type: 'text', name: 'time_zone' })
+  timeZone: string
+
+  @Column({ type: 'text', name: 'unit_system', default: 'IP' })
+  unitSystem: 'IP' | 'SI'
+
+  @OneToMany(() => ProjectMember, (m) => m.project)
+  members: Relation<ProjectMember[]>
+
+  @CreateDateColumn({ type: 'timestamptz', name: 'created_at' })
+  createdAt: Date
+
+  @UpdateDateColumn({ type: 'timestamptz', name: 'updated_at' })
+  updatedAt: Date
+}

@@ -1,0 +1,67 @@
+import type { Server } from 'node:http'
+import { ConfigError, loadConfig, type Config } from './config'
+import { createApp } from './app'
+import { createDataSource } from './db/data-source'
+
+export interface RunningServer {
+  server: Server
+  url: string
+  close(): Promise<void>
+}
+
+/** Connects to PostgreSQL (runs pending migrations) and listens; resolves once it accepts requests. */
+export async function startServer(config: Config): Promise<RunningServer> {
+  const db = createDataSource(config.DATABASE_URL)
+  try {
+    await db.initialize()
+  } catch (err) {
+    const url = new URL(config.DATABASE_URL)
+    url.password = url.password ? '***' : ''
+    throw new Error(`Cannot connect to the database at DATABASE_URL=${url.toString()}: ${(err as Error).message}`)
+  }
+  await db.runMigrations({ transaction: 'each' })
+  const app = createApp({ config, db })
+  const server = await new Promise<Server>((resolve, reject) => {
+    const s = app.listen(config.PORT, config.HOST, () => resolve(s))
+    s.once('error', reject)
+  })
+  const url = `http://localhost:${config.PORT}`
+  return {
+    server,
+    url,
+    async close() {
+      server.closeAllConnections()
+      await new Promise<void>((resolve) => server.close(() => resolve()))
+      await db.destroy()
+    },
+  }
+}
+
+async function main() {
+  let config: Config
+  try {
+    config = loadConfig()
+  } catch (err) {
+    if (err instanceof ConfigError) {
+      console.error(err.message)
+      process.exit(2)
+    }
+    throw err
+  }
+  const running = await startServer(config)
+  console.log(`Startproof is serving on ${running.url}`)
+  const stop = async (signal: string) => {
+    console.log(`${signal}: stopping …`)
+    await running.close()
+    process.exit(0)
+  }
+  process.once('SIGINT', () => void stop('SIGINT'))
+  process.once('SIGTERM', () => void stop('SIGTERM'))
+}
+
+if (import.meta.url === `file://${process.argv[1]}`) {
+  main().catch((err) => {
+    console.error(err instanceof Error ? err.message : err)
+    process.exit(1)
+  })
+}

@@ -1,0 +1,42 @@
+import * as yup from 'yup'
+
+export const PASSWORD_MIN_LENGTH = 10
+
+const email = yup
+  .string()
+  .label('Email')
+  .trim()
+  .lowercase()
+  .required('Email is required')
+  .email('Email must be a valid address')
+  .max(254)
+
+const newPassword = yup
+  .string()
+  .label('Password')
+  .required('Password is required')
+  .min(PASSWORD_MIN_LENGTH, `Password must be at least ${PASSWORD_MIN_LENGTH} characters`)
+  .max(200, 'Password must be at most 200 characters')
+
+/** Sign-in form and `POST /api/session` body. */
+export const signInSchema = yup
+  .object({
+    email,
+    password: yup.string().required('Password is required').max(200),
+  })
+  .noUnknown()
+export type SignInInput = yup.InferType<typeof signInSchema>
+
+/** Password change form and `PUT /api/account/password` body. */
+export const passwordChangeSchema = yup
+  .object({
+    currentPassword: yup.string().required('Current password is required').max(200),
+    newPassword: newPassword
+      .label('New password')
+      .required('New password is required')
+      .notOneOf([yup.ref('currentPassword')], 'New password must differ from the current one'),
+  })
+  .noUnknown()
+export type PasswordChangeInput = yup.InferType<typeof passwordChangeSchema>
+
+export { email as emailSchema, newPassword as newPasswordSchema }

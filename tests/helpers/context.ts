@@ -1,0 +1,86 @@
+import { inject } from 'vitest'
+import request from 'supertest'
+import type { Express } from 'express'
+import type { DataSource } from 'typeorm'
+import type { Role } from '@shared/types/roles'
+import { loadConfig, type Config } from '../../server/config'
+import { createApp } from '../../server/app'
+import { createDataSource } from '../../server/db/data-source'
+import { Organization, Project, ProjectMember, User } from '../../server/entities'
+import { hashPassword } from '../../server/auth/passwords'
+
+export interface TestContext {
+  db: DataSource
+  config: Config
+  app: Express
+  close(): Promise<void>
+}
+
+/** A DataSource on the throwaway cluster and an app built on it, as a server process would. */
+export async function createTestContext(env: Record<string, string> = {}): Promise<TestContext> {
+  const config = loadConfig({
+    NODE_ENV: 'test',
+    DATABASE_URL: inject('databaseUrl'),
+    CLIENT_DIST: '/nonexistent-startproof-client',
+    ...env,
+  })
+  const db = createDataSource(config.DATABASE_URL, { poolSize: 4 })
+  await db.initialize()
+  return { db, config, app: createApp({ config, db }), close: () => db.destroy() }
+}
+
+/** Empties every table the tests write to; each test file then inserts its own rows. */
+export async function resetDatabase(db: DataSource): Promise<void> {
+  await db.query(`TRUNCATE project_member, project, app_user, organization, session, rate_limit RESTART IDENTITY CASCADE`)
+  // audit_event refuses DELETE and UPDATE by trigger, and TRUNCATE is the administrator's way to clear a test database.
+  await db.query(`TRUNCATE audit_event`)
+}
+
+let counter = 0
+export const TEST_PASSWORD = 'correct horse battery'
+
+export async function makeOrganization(db: DataSource, name = 'Test Commissioning Firm'): Promise<Organization> {
+  return db.getRepository(Organization).save({ name })
+}
+
+export async function makeUser(
+  db: DataSource,
+  org: Organization,
+  role: Role,
+  overrides: Partial<Pick<User, 'email' | 'displayName' | 'active'>> & { password?: string } = {},
+): Promise<User & { password: string }> {
+  counter += 1
+  const password = overrides.password ?? TEST_PASSWORD
+  const user = await db.getRepository(User).save({
+    organizationId: org.id,
+    email: overrides.email ?? `${role}.${counter}@firm.test`,
+    displayName: overrides.displayName ?? `Test ${role} ${counter}`,
+    role,
+    active: overrides.active ?? true,
+    passwordHash: await hashPassword(password),
+  })
+  return Object.assign(user, { password })
+}
+
+export async function makeProject(db: DataSource, org: Organization, memberIds: string[] = []): Promise<Project> {
+  counter += 1
+  const project = await db.getRepository(Project).save({
+    organizationId: org.id,
+    code: `TP-${counter}`,
+    name: `Test plant ${counter}`,
+    siteName: 'Test site',
+    siteAddress: '1 Test Way',
+    timeZone: 'America/Chicago',
+    unitSystem: 'IP',
+  })
+  if (memberIds.length) await db.getRepository(ProjectMember).save(memberIds.map((userId) => ({ projectId: project.id, userId })))
+  return project
+}
+
+/** A supertest agent (keeps cookies) signed in as `user`. */
+export async function signedInAgent(app: Express, user: { email: string; password: string }) {
+  const agent = request.agent(app)
+  const res = await agent.post('/api/session').send({ email: user.email, password: user.password })
+  if (res.status !== 200) throw new Error(`sign-in failed for ${user.email}: ${res.status} ${JSON.stringify(res.body)}`)
+  return agent
+}
