@@ -1,7 +1,7 @@
-import { DataSource } from 'typeorm'
+import { DataSource, In } from 'typeorm'
 import type { ProjectMemberSummary, ProjectSummary, SessionUser } from '@shared/types/api'
 import { AppError } from '../errors/app-error'
-import { Project, ProjectMember, User } from '../entities'
+import { Project, ProjectMember } from '../entities'
 
 function toSummary(p: Project, memberCount: number): ProjectSummary {
   return {
@@ -38,18 +38,19 @@ export class ProjectService {
   }
 
   async listFor(user: SessionUser): Promise<ProjectSummary[]> {
-    const qb = this.db
-      .getRepository(Project)
-      .createQueryBuilder('p')
-      .loadRelationCountAndMap('p.memberCount', 'p.members')
-      .orderBy('p.name', 'ASC')
-    if (user.role === 'admin') {
-      qb.innerJoin(User, 'me', 'me.organizationId = p.organizationId AND me.id = :uid', { uid: user.id })
-    } else {
-      qb.innerJoin(ProjectMember, 'pm', 'pm.projectId = p.id AND pm.userId = :uid', { uid: user.id })
-    }
-    const rows = (await qb.getMany()) as (Project & { memberCount: number })[]
-    return rows.map((p) => toSummary(p, p.memberCount))
+    const visible =
+      user.role === 'admin'
+        ? `p.organization_id = (SELECT organization_id FROM app_user WHERE id = $1)`
+        : `EXISTS (SELECT 1 FROM project_member pm WHERE pm.project_id = p.id AND pm.user_id = $1)`
+    const rows: { id: string; member_count: number }[] = await this.db.query(
+      `SELECT p.id, (SELECT count(*)::int FROM project_member c WHERE c.project_id = p.id) AS member_count
+         FROM project p WHERE ${visible} ORDER BY p.name`,
+      [user.id],
+    )
+    if (!rows.length) return []
+    const projects = await this.db.getRepository(Project).findBy({ id: In(rows.map((r) => r.id)) })
+    const byId = new Map(projects.map((p) => [p.id, p]))
+    return rows.map((r) => toSummary(byId.get(r.id)!, r.member_count))
   }
 
   async get(projectId: string): Promise<ProjectSummary> {

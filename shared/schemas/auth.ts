@@ -31,9 +31,11 @@ export type SignInInput = yup.InferType<typeof signInSchema>
 export const passwordChangeSchema = yup
   .object({
     currentPassword: yup.string().required('Current password is required').max(200),
-    newPassword: newPassword
-      .label('New password')
+    newPassword: yup
+      .string()
       .required('New password is required')
+      .min(PASSWORD_MIN_LENGTH, `New password must be at least ${PASSWORD_MIN_LENGTH} characters`)
+      .max(200, 'New password must be at most 200 characters')
       .notOneOf([yup.ref('currentPassword')], 'New password must differ from the current one'),
   })
   .noUnknown()
