@@ -1,0 +1,102 @@
+import { SATURATION_PRESSURE_KPA_ABS, SATURATION_TEMPERATURE_F } from '../data/refrigerant-saturation'
+import { absoluteToGauge, gaugeToAbsolute } from '../units/quantities'
+import { EngineeringError, requireFinite } from './errors'
+
+export const REFRIGERANTS = ['R-134a', 'R-513A', 'R-1233zd(E)'] as const
+export type Refrigerant = (typeof REFRIGERANTS)[number]
+/** Which saturation line of a zeotropic blend; pure refrigerants have one line and ignore it. */
+export type SaturationSide = 'dew' | 'bubble'
+
+/** True when a saturation table ships for `name`. */
+export function isRefrigerant(name: unknown): name is Refrigerant {
+  return typeof name === 'string' && (REFRIGERANTS as readonly string[]).includes(name)
+}
+
+interface Table {
+  name: string
+  inverseT: number[]
+  lnP: number[]
+}
+
+const tables = new Map<string, Table>()
+
+function table(refrigerant: string, side: SaturationSide): Table {
+  if (!isRefrigerant(refrigerant)) {
+    throw new EngineeringError('UNKNOWN_REFRIGERANT', `No saturation table for refrigerant "${String(refrigerant)}" (have: ${REFRIGERANTS.join(', ')})`, { refrigerant })
+  }
+  const key = refrigerant === 'R-513A' ? `R-513A ${side}` : refrigerant
+  let t = tables.get(key)
+  if (!t) {
+    const pressures = SATURATION_PRESSURE_KPA_ABS[key as keyof typeof SATURATION_PRESSURE_KPA_ABS]
+    // ln p is nearly linear in 1/T (Clausius–Clapeyron), so interpolating there is accurate between rows.
+    t = {
+      name: refrigerant === 'R-513A' ? `R-513A (${side})` : refrigerant,
+      inverseT: SATURATION_TEMPERATURE_F.map((f) => 1 / ((f - 32) / 1.8 + 273.15)),
+      lnP: pressures.map((p) => Math.log(p)),
+    }
+    tables.set(key, t)
+  }
+  return t
+}
+
+function interpolate(xs: readonly number[], ys: readonly number[], x: number): number {
+  const ascending = xs[xs.length - 1] > xs[0]
+  let lo = 0
+  let hi = xs.length - 1
+  while (hi - lo > 1) {
+    const mid = (lo + hi) >> 1
+    if (ascending ? xs[mid] <= x : xs[mid] >= x) lo = mid
+    else hi = mid
+  }
+  return ys[lo] + ((ys[hi] - ys[lo]) * (x - xs[lo])) / (xs[hi] - xs[lo])
+}
+
+const T_MIN_F = SATURATION_TEMPERATURE_F[0]
+const T_MAX_F = SATURATION_TEMPERATURE_F[SATURATION_TEMPERATURE_F.length - 1]
+
+/** Saturation pressure in kPa absolute at `tempC`, interpolated in the shipped table (shared/data). */
+export function saturationPressureKpaAbs(refrigerant: string, tempC: number, side: SaturationSide = 'dew'): number {
+  const t = table(refrigerant, side)
+  const tempF = requireFinite(tempC, 'saturation temperature') * 1.8 + 32
+  if (tempF < T_MIN_F - 1e-9 || tempF > T_MAX_F + 1e-9) {
+    throw new EngineeringError('OUTSIDE_TABLE', `${t.name} saturation table covers ${T_MIN_F}–${T_MAX_F} °F, got ${tempF.toFixed(1)} °F`, { refrigerant, tempF })
+  }
+  return Math.exp(interpolate(t.inverseT, t.lnP, 1 / (tempC + 273.15)))
+}
+
+/** Saturation temperature in °C at `pressureKpaAbs` kPa absolute, interpolated in the shipped table (shared/data). */
+export function saturationTempC(refrigerant: string, pressureKpaAbs: number, side: SaturationSide = 'dew'): number {
+  const t = table(refrigerant, side)
+  const p = requireFinite(pressureKpaAbs, 'saturation pressure')
+  const lnP = p > 0 ? Math.log(p) : -Infinity
+  const lo = t.lnP[0]
+  const hi = t.lnP[t.lnP.length - 1]
+  if (!(lnP >= lo - 1e-12 && lnP <= hi + 1e-12)) {
+    const range = `${Math.exp(lo).toFixed(1)}–${Math.exp(hi).toFixed(1)} kPa (abs)`
+    throw new EngineeringError('OUTSIDE_TABLE', `${t.name} saturation table covers ${range} (${T_MIN_F}–${T_MAX_F} °F), got ${p} kPa (abs)`, { refrigerant, pressureKpaAbs })
+  }
+  return 1 / interpolate(t.lnP, t.inverseT, lnP) - 273.15
+}
+
+/** Saturation temperature in °F at a gauge pressure in psig (negative for vacuum; 14.696 psia = 0 psig). */
+export function saturationTempF(refrigerant: string, pressurePsig: number, side: SaturationSide = 'dew'): number {
+  table(refrigerant, side)
+  const kPaAbs = gaugeToAbsolute(requireFinite(pressurePsig, 'pressure'), 'psig', 'kPaa')
+  return saturationTempC(refrigerant, kPaAbs, side) * 1.8 + 32
+}
+
+/** Saturation pressure in psig (negative below atmospheric) at `tempF` °F. */
+export function saturationPressurePsig(refrigerant: string, tempF: number, side: SaturationSide = 'dew'): number {
+  const kPaAbs = saturationPressureKpaAbs(refrigerant, (requireFinite(tempF, 'temperature') - 32) / 1.8, side)
+  return absoluteToGauge(kPaAbs, 'kPaa', 'psig')
+}
+
+/** Evaporator approach in °F (or K from °C): leaving chilled water − saturated evaporator temperature. */
+export function evaporatorApproachF(leavingChilledWaterF: number, saturatedEvaporatorF: number): number {
+  return requireFinite(leavingChilledWaterF, 'leaving chilled-water temperature') - requireFinite(saturatedEvaporatorF, 'saturated evaporator temperature')
+}
+
+/** Condenser approach in °F (or K from °C): saturated condensing temperature − leaving condenser water. */
+export function condenserApproachF(leavingCondenserWaterF: number, saturatedCondensingF: number): number {
+  return requireFinite(saturatedCondensingF, 'saturated condensing temperature') - requireFinite(leavingCondenserWaterF, 'leaving condenser-water temperature')
+}

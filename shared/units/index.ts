@@ -1,0 +1,23 @@
+export { math } from './math'
+export {
+  QUANTITY_KINDS,
+  UNIT_SYSTEMS,
+  STANDARD_ATMOSPHERE_PA,
+  isQuantityKind,
+  isUnitOf,
+  unitsOf,
+  unitSpec,
+  unitLabel,
+  kindLabel,
+  canonicalUnit,
+  displayUnit,
+  convert,
+  convertDifference,
+  toCanonical,
+  fromCanonical,
+  gaugeToAbsolute,
+  absoluteToGauge,
+  quantityToCanonical,
+} from './quantities'
+export type { QuantityKind, UnitSystem, UnitSpec, Quantity } from './quantities'
+export { formatNumber, formatQuantity, distinguishingDecimals } from './format'

@@ -1,0 +1,254 @@
+import { EngineeringError, requireFinite } from '../engineering/errors'
+import { math } from './math'
+
+export const QUANTITY_KINDS = [
+  'temperature',
+  'temperature_difference',
+  'pressure_gauge',
+  'pressure_absolute',
+  'pressure_differential',
+  'volumetric_flow',
+  'power',
+  'current',
+  'voltage',
+  'frequency',
+  'time',
+  'percent',
+  'cooling_capacity',
+  'specific_power',
+  'efficiency',
+] as const
+export type QuantityKind = (typeof QUANTITY_KINDS)[number]
+
+export const UNIT_SYSTEMS = ['IP', 'SI'] as const
+export type UnitSystem = (typeof UNIT_SYSTEMS)[number]
+
+export interface UnitSpec {
+  /** Identifier stored with a reading; unique within its kind. */
+  id: string
+  kind: QuantityKind
+  /** What a technician reads on screen and in messages. */
+  label: string
+  /** Decimal places shown for this unit in messages. */
+  decimals: number
+  /** The mathjs unit that does the conversion; null for a kind with a single unit. */
+  mathUnit: string | null
+  /** -1 for a unit that counts downwards from its zero (inches of mercury vacuum). */
+  sign?: -1
+}
+
+interface KindSpec {
+  label: string
+  si: string
+  ip: string
+  /** Canonical SI storage unit. */
+  canonical: string
+  units: UnitSpec[]
+}
+
+function u(kind: QuantityKind, id: string, label: string, mathUnit: string | null, decimals: number, sign?: -1): UnitSpec {
+  return sign ? { id, kind, label, mathUnit, decimals, sign } : { id, kind, label, mathUnit, decimals }
+}
+
+// Gauge, absolute and differential pressure share mathjs's psi and kPa: what separates them is the
+// kind (the reference point), which mathjs cannot express. Temperature differences use the offset-free
+// Rankine and kelvin so a 1 °F difference converts to 5/9 K, not to −17.2 °C.
+const KINDS: Record<QuantityKind, KindSpec> = {
+  temperature: {
+    label: 'temperature', ip: 'degF', si: 'degC', canonical: 'K',
+    units: [u('temperature', 'degF', '°F', 'degF', 1), u('temperature', 'degC', '°C', 'degC', 1), u('temperature', 'K', 'K', 'K', 2)],
+  },
+  temperature_difference: {
+    label: 'temperature difference', ip: 'deltaF', si: 'K', canonical: 'K',
+    units: [
+      u('temperature_difference', 'deltaF', '°F', 'degR', 1),
+      u('temperature_difference', 'deltaC', '°C', 'K', 2),
+      u('temperature_difference', 'K', 'K', 'K', 2),
+    ],
+  },
+  pressure_gauge: {
+    label: 'gauge pressure', ip: 'psig', si: 'kPag', canonical: 'Pag',
+    units: [
+      u('pressure_gauge', 'psig', 'psig', 'psi', 1),
+      u('pressure_gauge', 'kPag', 'kPa (gauge)', 'kPa', 0),
+      u('pressure_gauge', 'barg', 'bar (gauge)', 'bar', 2),
+      u('pressure_gauge', 'Pag', 'Pa (gauge)', 'Pa', 0),
+      u('pressure_gauge', 'inHgVac', 'inHg vacuum', 'inHg', 1, -1),
+    ],
+  },
+  pressure_absolute: {
+    label: 'absolute pressure', ip: 'psia', si: 'kPaa', canonical: 'Paa',
+    units: [
+      u('pressure_absolute', 'psia', 'psia', 'psi', 2),
+      u('pressure_absolute', 'kPaa', 'kPa (abs)', 'kPa', 1),
+      u('pressure_absolute', 'bara', 'bar (abs)', 'bar', 3),
+      u('pressure_absolute', 'Paa', 'Pa (abs)', 'Pa', 0),
+      u('pressure_absolute', 'inHgAbs', 'inHg (abs)', 'inHg', 2),
+    ],
+  },
+  pressure_differential: {
+    label: 'differential pressure', ip: 'psid', si: 'kPad', canonical: 'Pad',
+    units: [
+      u('pressure_differential', 'psid', 'psid', 'psi', 1),
+      u('pressure_differential', 'kPad', 'kPa (diff)', 'kPa', 0),
+      u('pressure_differential', 'Pad', 'Pa (diff)', 'Pa', 0),
+      u('pressure_differential', 'ftH2O', 'ft of water', 'ftH2O', 1),
+      u('pressure_differential', 'inH2O', 'in of water', 'inH2O', 1),
+    ],
+  },
+  volumetric_flow: {
+    label: 'flow', ip: 'gpm', si: 'Lps', canonical: 'm3ps',
+    units: [
+      u('volumetric_flow', 'gpm', 'gpm', 'gallon/minute', 0),
+      u('volumetric_flow', 'Lps', 'L/s', 'L/s', 1),
+      u('volumetric_flow', 'm3ph', 'm³/h', 'm^3/h', 1),
+      u('volumetric_flow', 'm3ps', 'm³/s', 'm^3/s', 4),
+    ],
+  },
+  power: {
+    label: 'power', ip: 'kW', si: 'kW', canonical: 'W',
+    units: [u('power', 'kW', 'kW', 'kW', 1), u('power', 'W', 'W', 'W', 0), u('power', 'hp', 'hp', 'hp', 1)],
+  },
+  current: { label: 'current', ip: 'A', si: 'A', canonical: 'A', units: [u('current', 'A', 'A', 'A', 1)] },
+  voltage: {
+    label: 'voltage', ip: 'V', si: 'V', canonical: 'V',
+    units: [u('voltage', 'V', 'V', 'V', 0), u('voltage', 'kV', 'kV', 'kV', 2)],
+  },
+  frequency: { label: 'frequency', ip: 'Hz', si: 'Hz', canonical: 'Hz', units: [u('frequency', 'Hz', 'Hz', 'Hz', 1)] },
+  time: {
+    label: 'time', ip: 's', si: 's', canonical: 's',
+    units: [u('time', 's', 's', 's', 1), u('time', 'min', 'min', 'minute', 1), u('time', 'h', 'h', 'hour', 2)],
+  },
+  // Percent is stored as percent (75 for 75 %) so a reading reads the same in every system.
+  percent: { label: 'percent', ip: '%', si: '%', canonical: '%', units: [u('percent', '%', '%', null, 1)] },
+  cooling_capacity: {
+    label: 'cooling capacity', ip: 'TR', si: 'kW', canonical: 'W',
+    units: [
+      u('cooling_capacity', 'TR', 'tons', 'TR', 1),
+      u('cooling_capacity', 'kW', 'kW', 'kW', 1),
+      u('cooling_capacity', 'W', 'W', 'W', 0),
+      u('cooling_capacity', 'BtuPerH', 'Btu/h', 'BTU/h', 0),
+    ],
+  },
+  specific_power: {
+    label: 'specific power', ip: 'kWPerTon', si: 'kWPerKW', canonical: 'kWPerKW',
+    units: [
+      u('specific_power', 'kWPerTon', 'kW/ton', 'kW/TR', 3),
+      u('specific_power', 'kWPerKW', 'kW/kW', 'kW/kW', 3),
+    ],
+  },
+  efficiency: {
+    label: 'efficiency', ip: 'COP', si: 'COP', canonical: 'COP',
+    units: [u('efficiency', 'COP', 'COP', 'W/W', 2), u('efficiency', 'EER', 'Btu/(W·h)', 'BTU/(W h)', 2)],
+  },
+}
+
+const UNIT_INDEX: Record<QuantityKind, Map<string, UnitSpec>> = Object.fromEntries(
+  QUANTITY_KINDS.map((kind) => [kind, new Map(KINDS[kind].units.map((spec) => [spec.id, spec]))]),
+) as Record<QuantityKind, Map<string, UnitSpec>>
+
+/** True when `kind` names one of the quantity kinds. */
+export function isQuantityKind(kind: unknown): kind is QuantityKind {
+  return typeof kind === 'string' && (QUANTITY_KINDS as readonly string[]).includes(kind)
+}
+
+function kindSpec(kind: QuantityKind): KindSpec {
+  if (!isQuantityKind(kind)) throw new EngineeringError('UNKNOWN_QUANTITY_KIND', `Unknown quantity kind "${String(kind)}"`, { kind })
+  return KINDS[kind]
+}
+
+/** The units accepted for a quantity kind, I-P and SI, in display order. */
+export function unitsOf(kind: QuantityKind): readonly UnitSpec[] {
+  return kindSpec(kind).units
+}
+
+/** True when `unit` is an accepted unit id for `kind`. */
+export function isUnitOf(kind: QuantityKind, unit: unknown): boolean {
+  return isQuantityKind(kind) && typeof unit === 'string' && UNIT_INDEX[kind].has(unit)
+}
+
+/** The unit spec for `unit` in `kind`; throws UNIT_MISMATCH when the unit does not measure that kind. */
+export function unitSpec(kind: QuantityKind, unit: string): UnitSpec {
+  const spec = kindSpec(kind) && UNIT_INDEX[kind].get(unit)
+  if (!spec) {
+    const accepted = KINDS[kind].units.map((s) => s.id).join(', ')
+    throw new EngineeringError('UNIT_MISMATCH', `"${unit}" is not a unit of ${KINDS[kind].label} (accepted: ${accepted})`, { kind, unit })
+  }
+  return spec
+}
+
+/** The canonical SI storage unit id for a kind (K, Pa, m³/s, W, …). */
+export function canonicalUnit(kind: QuantityKind): string {
+  return kindSpec(kind).canonical
+}
+
+/** The unit a project in `system` shows and enters for `kind`. */
+export function displayUnit(kind: QuantityKind, system: UnitSystem): string {
+  const spec = kindSpec(kind)
+  return system === 'SI' ? spec.si : spec.ip
+}
+
+/** The on-screen label of a unit ("psid", "kPa (gauge)", "tons"). */
+export function unitLabel(kind: QuantityKind, unit: string): string {
+  return unitSpec(kind, unit).label
+}
+
+/** Plain-English name of a quantity kind ("differential pressure"). */
+export function kindLabel(kind: QuantityKind): string {
+  return kindSpec(kind).label
+}
+
+/** `value` in `from` converted to `to`, both units of `kind`; conversions go through mathjs units. */
+export function convert(value: number, from: string, to: string, kind: QuantityKind): number {
+  requireFinite(value, 'value')
+  const source = unitSpec(kind, from)
+  const target = unitSpec(kind, to)
+  if (source.id === target.id) return value
+  const signed = value * (source.sign ?? 1)
+  let result: number
+  if (source.mathUnit === target.mathUnit || source.mathUnit === null || target.mathUnit === null) result = signed
+  else result = math.unit(signed, source.mathUnit).toNumber(target.mathUnit)
+  return result * (target.sign ?? 1)
+}
+
+/** A difference (tolerance, band, offset) of `value` in `from` converted to `to`: scale only, no offset. */
+export function convertDifference(value: number, from: string, to: string, kind: QuantityKind): number {
+  requireFinite(value, 'value')
+  return convert(value, from, to, kind) - convert(0, from, to, kind)
+}
+
+/** `value` in `unit` converted to the canonical SI storage unit of `kind`. */
+export function toCanonical(value: number, unit: string, kind: QuantityKind): number {
+  return convert(value, unit, canonicalUnit(kind), kind)
+}
+
+/** A canonical SI value of `kind` converted to `unit`. */
+export function fromCanonical(value: number, unit: string, kind: QuantityKind): number {
+  return convert(value, canonicalUnit(kind), unit, kind)
+}
+
+/** Standard atmosphere, 101 325 Pa = 14.696 psia (NIST SP 811 (2008) App. B.8); the zero of gauge pressure. */
+export const STANDARD_ATMOSPHERE_PA = 101325
+
+/** Gauge pressure in `gaugeUnit` as absolute pressure in `absoluteUnit`, referred to the standard atmosphere. */
+export function gaugeToAbsolute(value: number, gaugeUnit: string, absoluteUnit: string): number {
+  const pa = toCanonical(value, gaugeUnit, 'pressure_gauge') + STANDARD_ATMOSPHERE_PA
+  return fromCanonical(pa, absoluteUnit, 'pressure_absolute')
+}
+
+/** Absolute pressure in `absoluteUnit` as gauge pressure in `gaugeUnit` (negative below atmospheric). */
+export function absoluteToGauge(value: number, absoluteUnit: string, gaugeUnit: string): number {
+  const pa = toCanonical(value, absoluteUnit, 'pressure_absolute') - STANDARD_ATMOSPHERE_PA
+  return fromCanonical(pa, gaugeUnit, 'pressure_gauge')
+}
+
+/** A number with its unit, as entered or stored. */
+export interface Quantity {
+  value: number
+  unit: string
+}
+
+/** `q` in canonical SI for `kind`, with a clear error when its unit does not measure that kind. */
+export function quantityToCanonical(q: Quantity, kind: QuantityKind): number {
+  return toCanonical(q.value, q.unit, kind)
+}
