@@ -1,0 +1,52 @@
+import type { ApiErrorBody } from '@shared/types/api'
+
+/** An API answer other than 2xx, or no answer at all (`status` 0), in words for the person using the app. */
+export class ApiError extends Error {
+  constructor(
+    readonly status: number,
+    readonly code: string,
+    message: string,
+    readonly fields: Record<string, string> = {},
+  ) {
+    super(message)
+    this.name = 'ApiError'
+  }
+}
+
+type Method = 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE'
+
+/** JSON request to `/api…`; resolves the parsed body, or throws ApiError with the server's code and message. */
+export async function request<T>(method: Method, url: string, body?: unknown): Promise<T> {
+  let res: Response
+  try {
+    res = await fetch(`/api${url}`, {
+      method,
+      credentials: 'same-origin',
+      headers: { Accept: 'application/json', ...(body !== undefined ? { 'Content-Type': 'application/json' } : {}) },
+      body: body !== undefined ? JSON.stringify(body) : undefined,
+    })
+  } catch {
+    throw new ApiError(0, 'network', 'The server cannot be reached. Check the connection and try again; what you typed is kept.')
+  }
+  if (res.status === 204) return undefined as T
+  const text = await res.text()
+  let data: unknown = undefined
+  try {
+    data = text ? JSON.parse(text) : undefined
+  } catch {
+    data = undefined
+  }
+  if (!res.ok) {
+    const err = (data as { error?: ApiErrorBody } | undefined)?.error
+    throw new ApiError(res.status, err?.code ?? 'http_' + res.status, err?.message ?? `The server answered ${res.status} ${res.statusText}`, err?.fields)
+  }
+  return data as T
+}
+
+export const http = {
+  get: <T>(url: string) => request<T>('GET', url),
+  post: <T>(url: string, body?: unknown) => request<T>('POST', url, body ?? {}),
+  put: <T>(url: string, body?: unknown) => request<T>('PUT', url, body ?? {}),
+  patch: <T>(url: string, body?: unknown) => request<T>('PATCH', url, body ?? {}),
+  delete: <T>(url: string) => request<T>('DELETE', url),
+}

@@ -1,0 +1,56 @@
+import { createRouter, createWebHistory, type RouteLocationRaw, type RouteRecordRaw } from 'vue-router'
+import type { Role } from '@shared/types/roles'
+import { useSessionStore } from '@/stores/session'
+
+export type RouteName = 'sign-in' | 'today' | 'projects' | 'project' | 'people' | 'account' | 'not-found'
+
+declare module 'vue-router' {
+  interface RouteMeta {
+    /** Reachable without signing in. */
+    public?: boolean
+    /** Roles allowed; absent means every signed-in role. */
+    roles?: Role[]
+    title?: string
+  }
+}
+
+type NamedRoute = RouteRecordRaw & { name: RouteName }
+
+const routes: NamedRoute[] = [
+  { path: '/sign-in', name: 'sign-in', component: () => import('@/views/SignInView.vue'), meta: { public: true, title: 'Sign in' } },
+  { path: '/', name: 'today', component: () => import('@/views/TodayView.vue'), meta: { roles: ['technician'], title: 'Today' } },
+  { path: '/projects', name: 'projects', component: () => import('@/views/ProjectsView.vue'), meta: { title: 'Projects' } },
+  { path: '/projects/:projectId', name: 'project', component: () => import('@/views/ProjectView.vue'), meta: { title: 'Project' }, props: true },
+  { path: '/people', name: 'people', component: () => import('@/views/PeopleView.vue'), meta: { roles: ['admin'], title: 'People' } },
+  { path: '/account', name: 'account', component: () => import('@/views/AccountView.vue'), meta: { title: 'Account' } },
+  { path: '/:pathMatch(.*)*', name: 'not-found', component: () => import('@/views/NotFoundView.vue'), meta: { title: 'Not found' } },
+]
+
+/** Where each role starts after signing in. */
+export function landingFor(role: Role): { name: RouteName } {
+  return role === 'technician' ? { name: 'today' } : { name: 'projects' }
+}
+
+export function to(name: RouteName, params?: Record<string, string>): RouteLocationRaw {
+  return { name, params }
+}
+
+const router = createRouter({ history: createWebHistory(), routes })
+
+router.beforeEach(async (target) => {
+  const session = useSessionStore()
+  await session.ensureLoaded()
+  if (target.meta.public) {
+    if (target.name === 'sign-in' && session.user) return landingFor(session.user.role)
+    return true
+  }
+  if (!session.user) return { name: 'sign-in', query: target.fullPath !== '/' ? { redirect: target.fullPath } : {} }
+  if (target.meta.roles && !target.meta.roles.includes(session.user.role)) return landingFor(session.user.role)
+  return true
+})
+
+router.afterEach((route) => {
+  document.title = route.meta.title ? `${route.meta.title} · Startproof` : 'Startproof'
+})
+
+export default router

@@ -1,0 +1,151 @@
+/**
+ * `npm start` (and `npm run dev` with --dev): a local PostgreSQL of the project's own on 127.0.0.1,
+ * migrations, demo data on an empty database, the client built when its sources changed, then the server.
+ * With DATABASE_URL set, the local cluster is skipped and that database is used as it is.
+ */
+import { spawn, spawnSync, type ChildProcess } from 'node:child_process'
+import fs from 'node:fs'
+import path from 'node:path'
+import { ConfigError, loadConfig } from '../server/config'
+import {
+  databaseUrl,
+  ensureDatabase,
+  ensurePostgresInstalled,
+  initCluster,
+  isInitialized,
+  isRunning,
+  portInUse,
+  prepareClusterDir,
+  startCluster,
+  stopCluster,
+} from '../server/db/cluster'
+import { createDataSource } from '../server/db/data-source'
+import { isEmpty, loadDemoData } from '../server/db/demo-data'
+import { startServer, type RunningServer } from '../server/index'
+
+const root = path.resolve(import.meta.dirname, '..')
+const dev = process.argv.includes('--dev')
+const log = (line: string) => console.log(`[startproof] ${line}`)
+
+interface LocalCluster {
+  bin: string
+  dataDir: string
+  startedHere: boolean
+}
+
+async function prepareLocalCluster(): Promise<{ url: string; cluster: LocalCluster }> {
+  const bin = ensurePostgresInstalled(log)
+  const port = Number(process.env.STARTPROOF_PG_PORT ?? 54329)
+  if (!Number.isInteger(port) || port < 1024 || port > 65535) throw new ConfigError([`STARTPROOF_PG_PORT must be a port number between 1024 and 65535 (got "${process.env.STARTPROOF_PG_PORT}")`])
+  const base = path.resolve(process.env.STARTPROOF_DATA_DIR ?? path.join(root, 'data'))
+  fs.mkdirSync(base, { recursive: true })
+  fs.chmodSync(base, 0o755)
+  const dataDir = prepareClusterDir(path.join(base, 'postgres'))
+  const logFile = path.join(base, 'postgres.log')
+  if (!isInitialized(dataDir)) {
+    log(`creating a PostgreSQL cluster in ${dataDir}`)
+    initCluster(bin, dataDir)
+  }
+  let startedHere = false
+  if (isRunning(bin, dataDir)) {
+    log(`reusing the PostgreSQL cluster already running from ${dataDir}`)
+  } else {
+    if (await portInUse(port)) {
+      throw new ConfigError([`port ${port} on 127.0.0.1 is taken by another program; set STARTPROOF_PG_PORT to a free port`])
+    }
+    startCluster(bin, { dataDir, port, logFile })
+    startedHere = true
+    log(`PostgreSQL is running on 127.0.0.1:${port} (log: ${path.relative(root, logFile) || logFile})`)
+  }
+  ensureDatabase(bin, port, 'startproof')
+  return { url: databaseUrl(port, 'startproof'), cluster: { bin, dataDir, startedHere } }
+}
+
+async function migrateAndSeed(url: string): Promise<void> {
+  const db = createDataSource(url, { poolSize: 2 })
+  try {
+    await db.initialize()
+  } catch (err) {
+    throw new Error(`Cannot connect to the database (${(err as Error).message}). Check DATABASE_URL.`)
+  }
+  try {
+    const ran = await db.runMigrations({ transaction: 'each' })
+    if (ran.length) log(`applied migrations: ${ran.map((m) => m.name).join(', ')}`)
+    if (await isEmpty(db)) {
+      await loadDemoData(db)
+      log('loaded the demo data (accounts are listed in README.md)')
+    }
+  } finally {
+    await db.destroy()
+  }
+}
+
+function newestMtime(entries: string[]): number {
+  let newest = 0
+  for (const entry of entries) {
+    const full = path.join(root, entry)
+    if (!fs.existsSync(full)) continue
+    const stat = fs.statSync(full)
+    if (stat.isFile()) newest = Math.max(newest, stat.mtimeMs)
+    else for (const f of fs.readdirSync(full, { recursive: true, withFileTypes: true })) {
+      if (f.isFile()) newest = Math.max(newest, fs.statSync(path.join(f.parentPath, f.name)).mtimeMs)
+    }
+  }
+  return newest
+}
+
+/** Builds the client with Vite unless dist/ is newer than every source it is made from. */
+function buildClientIfStale(distDir: string): void {
+  const stamp = path.join(distDir, 'index.html')
+  const sources = newestMtime(['client', 'shared', 'index.html', 'vite.config.ts', 'package-lock.json', 'fonts'])
+  if (fs.existsSync(stamp) && fs.statSync(stamp).mtimeMs >= sources) {
+    log('client build is up to date')
+    return
+  }
+  log('building the client (vite build) …')
+  const r = spawnSync(path.join(root, 'node_modules/.bin/vite'), ['build', '--logLevel', 'warn'], { cwd: root, stdio: 'inherit' })
+  if (r.status !== 0) throw new Error(`vite build failed (exit ${r.status})`)
+}
+
+async function main() {
+  const external = Boolean(process.env.DATABASE_URL)
+  const { url, cluster } = external ? { url: process.env.DATABASE_URL!, cluster: null } : await prepareLocalCluster()
+  const config = loadConfig({ ...process.env, DATABASE_URL: url, ...(dev ? { PORT: process.env.API_PORT ?? '3001' } : {}) })
+  await migrateAndSeed(url)
+
+  let server: RunningServer | null = null
+  const children: ChildProcess[] = []
+  let stopping = false
+  const stop = async (signal: string) => {
+    if (stopping) return
+    stopping = true
+    log(`${signal}: stopping …`)
+    for (const child of children) child.kill('SIGTERM')
+    if (server) await server.close().catch((err) => console.error(err))
+    if (cluster?.startedHere) {
+      stopCluster(cluster.bin, cluster.dataDir, 'fast')
+      log('PostgreSQL stopped')
+    }
+    process.exit(0)
+  }
+  process.on('SIGINT', () => void stop('SIGINT'))
+  process.on('SIGTERM', () => void stop('SIGTERM'))
+
+  if (dev) {
+    const env = { ...process.env, DATABASE_URL: url, PORT: String(config.PORT), NODE_ENV: 'development' }
+    children.push(spawn(path.join(root, 'node_modules/.bin/tsx'), ['watch', '--clear-screen=false', 'server/index.ts'], { cwd: root, env, stdio: 'inherit' }))
+    children.push(spawn(path.join(root, 'node_modules/.bin/vite'), [], { cwd: root, env: { ...env, API_PORT: String(config.PORT) }, stdio: 'inherit' }))
+    log(`dev: API on http://localhost:${config.PORT}, client with hot reload on http://localhost:5173`)
+    for (const child of children) child.on('exit', (code) => void stop(`a dev process exited (${code})`))
+    return
+  }
+
+  buildClientIfStale(path.resolve(root, config.CLIENT_DIST))
+  server = await startServer(config)
+  log(`Startproof is ready on ${server.url} — Ctrl-C stops the server and the database`)
+}
+
+main().catch((err) => {
+  console.error(err instanceof ConfigError ? err.message : `[startproof] ${err instanceof Error ? err.message : String(err)}`)
+  process.exit(1)
+})

@@ -1,0 +1,33 @@
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
+import puppeteer, { type Browser } from 'puppeteer-core'
+
+export const CHROMIUM = process.env.CHROMIUM_PATH ?? '/usr/bin/chromium'
+
+/** Debian's Chromium, headless, with a fresh profile and none of its background network traffic. */
+export async function launchChromium(): Promise<Browser & { cleanup(): Promise<void> }> {
+  const userDataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-chromium-'))
+  const browser = await puppeteer.launch({
+    executablePath: CHROMIUM,
+    headless: true,
+    pipe: true,
+    userDataDir,
+    args: [
+      '--no-sandbox',
+      '--disable-gpu',
+      '--disable-quic',
+      '--no-first-run',
+      '--disable-background-networking',
+      '--disable-component-update',
+      '--disable-sync',
+      '--disable-dev-shm-usage',
+    ],
+  })
+  return Object.assign(browser, {
+    async cleanup() {
+      await browser.close().catch(() => undefined)
+      fs.rmSync(userDataDir, { recursive: true, force: true })
+    },
+  })
+}
