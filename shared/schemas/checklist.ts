@@ -70,7 +70,7 @@ export const rangeRuleSchema = object({
 })
   .exact('${path} has unknown keys: ${properties}')
   .test('band', function (r) {
-    return bandCheck(this, r, { min: 'min', max: 'max', warnMin: 'warnMin', warnMax: 'warnMax' })
+    return bandCheck(this, r as unknown as Record<string, number | undefined>, { min: 'min', max: 'max', warnMin: 'warnMin', warnMax: 'warnMax' })
   })
 
 /** `nominal ± tolerance` in the field's unit; marginal outside `± warnTolerance`. */
@@ -248,11 +248,27 @@ export const fieldSchema = object({
     .optional(),
 })
   .exact('${path} has unknown keys: ${properties}')
-  .test('field-consistency', function (f) {
-    return report(this, fieldIssues(this.path, f as ChecklistField))
+  .test('field-consistency', function (f: unknown) {
+    return report(this, fieldIssues(this.path, f as FieldLike))
   })
 
-function fieldIssues(p: string, f: ChecklistField): Issue[] {
+// Hand-written shapes for the schema's own tests: the inferred types depend on the schemas being defined.
+interface FieldLike {
+  id: string
+  label: string
+  kind: FieldKind
+  quantity?: QuantityKind
+  unit?: string
+  required?: boolean
+  choices?: Array<{ value: string; label: string }>
+  computed?: { expression: string }
+  rule?: FieldRule
+}
+interface DefinitionLike {
+  sections: Array<{ id: string; steps: Array<{ id: string; fields: FieldLike[] }> }>
+}
+
+function fieldIssues(p: string, f: FieldLike): Issue[] {
   const issues: Issue[] = []
   if (!f || !(FIELD_KINDS as readonly string[]).includes(f.kind)) return issues
   const measured = MEASURED_KINDS.includes(f.kind)
@@ -333,8 +349,8 @@ export const checklistDefinitionSchema = object({
   sections: array(sectionSchema).required('${path} is required').min(1, '${path} needs at least one section'),
 })
   .exact('${path} has unknown keys: ${properties}')
-  .test('cross-references', function (def) {
-    return report(this, crossReferenceIssues(def as ChecklistDefinition))
+  .test('cross-references', function (def: unknown) {
+    return report(this, crossReferenceIssues(def as DefinitionLike))
   })
 
 export type ChecklistField = Omit<InferType<typeof fieldSchema>, 'rule'> & { rule?: FieldRule }
@@ -343,8 +359,8 @@ export type ChecklistSection = Omit<InferType<typeof sectionSchema>, 'steps'> & 
 export type ChecklistDefinition = Omit<InferType<typeof checklistDefinitionSchema>, 'sections'> & { sections: ChecklistSection[] }
 
 /** Every field of a definition with its schema path, in order. */
-export function listFields(def: ChecklistDefinition): Array<{ field: ChecklistField; path: string }> {
-  const out: Array<{ field: ChecklistField; path: string }> = []
+export function listFields<F extends FieldLike = ChecklistField>(def: { sections: Array<{ steps: Array<{ fields: F[] }> }> }): Array<{ field: F; path: string }> {
+  const out: Array<{ field: F; path: string }> = []
   ;(Array.isArray(def?.sections) ? def.sections : []).forEach((section, i) =>
     (Array.isArray(section?.steps) ? section.steps : []).forEach((step, j) =>
       (Array.isArray(step?.fields) ? step.fields : []).forEach((field, k) => {
@@ -355,7 +371,7 @@ export function listFields(def: ChecklistDefinition): Array<{ field: ChecklistFi
   return out
 }
 
-function crossReferenceIssues(def: ChecklistDefinition): Issue[] {
+function crossReferenceIssues(def: DefinitionLike): Issue[] {
   const issues: Issue[] = []
   const seen = new Map<string, string>()
   const note = (id: unknown, path: string, what: string) => {

@@ -1,0 +1,8 @@
+export { evaluateField, evaluateChecklist } from './evaluate'
+export type { EvaluationContext, FieldEvaluation, LimitsUsed } from './evaluate'
+export { classify, worstVerdict, VERDICTS } from './verdict'
+export type { Verdict, LimitSet, Classification } from './verdict'
+export { judgeRamp, judgeInterval, checkSeries } from './series'
+export type { RampCriteria, RampJudgement, IntervalJudgement } from './series'
+export { parseExpression, EXPRESSION_FUNCTIONS, DESIGN_SCOPE_NAME } from './expression'
+export type { ParsedExpression } from './expression'
