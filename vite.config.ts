@@ -36,7 +36,7 @@ export default defineConfig({
         extends: true,
         test: {
           name: 'server',
-          include: ['tests/server/**/*.test.ts'],
+          include: ['tests/server/**/*.test.ts', 'tests/e2e/**/*.test.ts'],
           environment: 'node',
           globalSetup: ['tests/setup/postgres.ts'],
           setupFiles: ['tests/setup/server-env.ts'],

@@ -4,7 +4,9 @@ import { AppError } from '../errors/app-error'
 import type { UserService } from '../services/user.service'
 
 /** A passport instance of the app's own (not the global one), so every app built in tests is independent. */
-export function createPassport(users: UserService): Passport {
+export type AppPassport = InstanceType<typeof Passport>
+
+export function createPassport(users: UserService): AppPassport {
   const passport = new Passport()
   passport.use(
     new LocalStrategy({ usernameField: 'email', passwordField: 'password', passReqToCallback: true }, (req, email, password, done) => {

@@ -1,6 +1,6 @@
 import { Router, type RequestHandler } from 'express'
 import { rateLimit } from 'express-rate-limit'
-import type { Passport } from 'passport'
+import type { AppPassport } from '../auth/passport'
 import { passwordChangeSchema, signInSchema } from '@shared/schemas/auth'
 import type { SessionUser } from '@shared/types/api'
 import type { Config } from '../config'
@@ -12,7 +12,7 @@ import type { UserService } from '../services/user.service'
 
 interface Deps {
   config: Config
-  passport: Passport
+  passport: AppPassport
   users: UserService
   rateLimitStore: PostgresRateLimitStore
 }

@@ -14,7 +14,7 @@ export interface AuditEntry {
 
 /** Appends one event to the audit trail inside the caller's transaction (or alone). */
 export async function recordAudit(manager: EntityManager, entry: AuditEntry): Promise<void> {
-  await manager.insert(AuditEvent, {
+  await manager.save(AuditEvent, manager.create(AuditEvent, {
     actorId: entry.actorId,
     action: entry.action,
     entityType: entry.entityType,
@@ -23,5 +23,5 @@ export async function recordAudit(manager: EntityManager, entry: AuditEntry): Pr
     before: entry.before ?? null,
     after: entry.after ?? null,
     ip: entry.ip ?? null,
-  })
+  }))
 }
