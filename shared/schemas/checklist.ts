@@ -1,8 +1,8 @@
-import { array, boolean, lazy, mixed, number, object, string, ValidationError, type InferType, type TestContext } from 'yup'
+import { array, boolean, lazy, mixed, object, string, ValidationError, type InferType, type TestContext } from 'yup'
 import { EngineeringError } from '../engineering/errors'
 import { DESIGN_SCOPE_NAME, EXPRESSION_FUNCTIONS, parseExpression } from '../rules/expression'
 import { isUnitOf, QUANTITY_KINDS, UNIT_SYSTEMS, unitsOf, type QuantityKind, type UnitSystem } from '../units/quantities'
-import { DESIGN_POINT_KEYS, DESIGN_POINT_QUANTITIES, isDesignPointKey } from './design-point'
+import { DESIGN_POINT_KEYS, DESIGN_POINT_QUANTITIES, finiteNumber, isDesignPointKey } from './design-point'
 
 export const FIELD_KINDS = ['number', 'yes_no', 'choice', 'text', 'timer', 'time_series', 'photo'] as const
 export type FieldKind = (typeof FIELD_KINDS)[number]
@@ -31,10 +31,7 @@ const RESERVED = new Set([
   'to', 'in', 'and', 'or', 'not', 'xor', 'mod', 'end', 'true', 'false', 'null', 'undefined', 'NaN', 'Infinity',
 ])
 
-const finite = () =>
-  number()
-    .typeError('${path} must be a number')
-    .test('finite', '${path} must be a finite number', (v) => v === undefined || Number.isFinite(v))
+const finite = finiteNumber
 const nonNegative = () => finite().min(0, '${path} must not be negative')
 const positive = () => finite().moreThan(0, '${path} must be greater than zero')
 const ruleType = (t: RuleType) => string().required('${path} is required').oneOf([t])

@@ -29,14 +29,19 @@ export function isDesignPointKey(key: unknown): key is DesignPointKey {
   return typeof key === 'string' && Object.hasOwn(DESIGN_POINT_QUANTITIES, key)
 }
 
+/** A yup number that refuses NaN and ±Infinity with a message naming the path. */
+export function finiteNumber() {
+  return number()
+    .typeError('${path} must be a number')
+    .test('finite', '${path} must be a finite number', (v) => v === undefined || Number.isFinite(v))
+}
+
 /** A yup schema for `{ value, unit }` where the unit must measure `kind`; `positive` refuses zero and below. */
 export function quantitySchema(kind: QuantityKind, options: { positive?: boolean } = {}) {
   const accepted = unitsOf(kind).map((u) => u.id)
   return object({
-    value: number()
-      .typeError('${path} must be a number')
+    value: finiteNumber()
       .required('${path} is required')
-      .test('finite', '${path} must be a finite number', (v) => v === undefined || Number.isFinite(v))
       .test('positive', '${path} must be greater than zero', (v) => !options.positive || v === undefined || v > 0),
     unit: string()
       .required('${path} is required')

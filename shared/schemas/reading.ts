@@ -1,11 +1,9 @@
-import { array, boolean, lazy, mixed, number, object, string, tuple, type InferType } from 'yup'
+import { array, boolean, lazy, mixed, object, string, tuple, type InferType } from 'yup'
 import { isUnitOf, unitsOf } from '../units/quantities'
 import type { ChecklistField } from './checklist'
+import { finiteNumber } from './design-point'
 
-const finite = () =>
-  number()
-    .typeError('${path} must be a number')
-    .test('finite', '${path} must be a finite number', (v) => v === undefined || Number.isFinite(v))
+const finite = finiteNumber
 
 /** A measured number with its unit, as entered: `{ value: 18, unit: 'psid' }`. */
 export const numberEntrySchema = object({

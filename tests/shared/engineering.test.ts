@@ -109,7 +109,7 @@ describe('NEMA MG 1 unbalance', () => {
     [[460, 467, 450], 1.961, 'NEMA MG 1 worked example [S]'],
     [[462, 463, 455], 1.087, 'US DOE Motor Tip Sheet [S]'],
     [[480, 476, 472], 0.84, '[C]; the wrong max − min method gives 1.68'],
-  ] as const)('when phases read %j, then unbalance is %d % (%s)', (phases, pct) => {
+  ] as const)('when phases read %j, then unbalance is %d % (%s)', (phases, pct, _source) => {
     near(unbalancePct(phases), pct, 0.001)
   })
   // NEMA MG 1 Fig. 14-1 derating read from the curve, REFERENCES.md §3 [M, ±0.02]
