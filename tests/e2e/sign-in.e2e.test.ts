@@ -140,6 +140,8 @@ describe('signing in through the browser', { timeout: 60_000 }, () => {
     await page.click('[data-test=create-person]')
     await page.waitForFunction(() => document.querySelector('[data-test=people-table]')?.textContent?.includes('orla.penhallow@tallowmere.test'))
 
+    // The dialog's modal layer fades out after saving; a click before it has gone would land on it.
+    await page.waitForSelector('.el-overlay-dialog', { hidden: true })
     await page.click('[data-test=user-menu]')
     await page.waitForSelector('[data-test=sign-out]', { visible: true })
     await page.click('[data-test=sign-out]')

@@ -1,0 +1,5 @@
+export * from './auth'
+export * from './user'
+export * from './checklist'
+export * from './design-point'
+export * from './reading'
