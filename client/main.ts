@@ -10,8 +10,18 @@ import './styles/theme.css'
 import './styles/base.css'
 import App from './App.vue'
 import router from './router'
+import { onUnauthenticated } from './api/http'
+import { useSessionStore } from './stores/session'
 
 const app = createApp(App)
 app.use(createPinia())
 app.use(router)
+
+// A sign-in that ended elsewhere (signed out on another device, deactivated, expired) sends the person back
+// to sign-in, returning afterwards to the page they were on.
+onUnauthenticated(() => {
+  useSessionStore().clear()
+  const current = router.currentRoute.value
+  if (!current.meta.public) void router.replace({ name: 'sign-in', query: { redirect: current.fullPath } })
+})
 router.isReady().then(() => app.mount('#app'))

@@ -4,6 +4,7 @@
  * With DATABASE_URL set, the local cluster is skipped and that database is used as it is.
  */
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process'
+import { createHash } from 'node:crypto'
 import fs from 'node:fs'
 import path from 'node:path'
 import { ConfigError, loadConfig } from '../server/config'
@@ -18,6 +19,7 @@ import {
   prepareClusterDir,
   startCluster,
   stopCluster,
+  UnreachableDirError,
 } from '../server/db/cluster'
 import { createDataSource } from '../server/db/data-source'
 import { isEmpty, loadDemoData } from '../server/db/demo-data'
@@ -33,14 +35,32 @@ interface LocalCluster {
   startedHere: boolean
 }
 
+/**
+ * The cluster lives in data/ of the checkout. When the checkout sits where the unprivileged PostgreSQL user
+ * cannot reach (a clone under /root, say), it moves to a folder of its own under /var/lib, named after the checkout.
+ */
+function clusterFolder(): { base: string; dataDir: string } {
+  const chosen = process.env.STARTPROOF_DATA_DIR
+  const prepare = (base: string) => {
+    fs.mkdirSync(base, { recursive: true })
+    fs.chmodSync(base, 0o755)
+    return { base, dataDir: prepareClusterDir(path.join(base, 'postgres')) }
+  }
+  try {
+    return prepare(path.resolve(chosen ?? path.join(root, 'data')))
+  } catch (err) {
+    if (chosen || !(err instanceof UnreachableDirError)) throw err
+    const fallback = path.join('/var/lib/startproof', createHash('sha256').update(root).digest('hex').slice(0, 12))
+    log(`${err.message.split(':')[0]}; keeping the database in ${fallback} instead (STARTPROOF_DATA_DIR chooses another folder)`)
+    return prepare(fallback)
+  }
+}
+
 async function prepareLocalCluster(): Promise<{ url: string; cluster: LocalCluster }> {
   const bin = ensurePostgresInstalled(log)
   const port = Number(process.env.STARTPROOF_PG_PORT ?? 54329)
   if (!Number.isInteger(port) || port < 1024 || port > 65535) throw new ConfigError([`STARTPROOF_PG_PORT must be a port number between 1024 and 65535 (got "${process.env.STARTPROOF_PG_PORT}")`])
-  const base = path.resolve(process.env.STARTPROOF_DATA_DIR ?? path.join(root, 'data'))
-  fs.mkdirSync(base, { recursive: true })
-  fs.chmodSync(base, 0o755)
-  const dataDir = prepareClusterDir(path.join(base, 'postgres'))
+  const { base, dataDir } = clusterFolder()
   const logFile = path.join(base, 'postgres.log')
   if (!isInitialized(dataDir)) {
     log(`creating a PostgreSQL cluster in ${dataDir}`)
@@ -55,7 +75,7 @@ async function prepareLocalCluster(): Promise<{ url: string; cluster: LocalClust
     }
     startCluster(bin, { dataDir, port, logFile })
     startedHere = true
-    log(`PostgreSQL is running on 127.0.0.1:${port} (log: ${path.relative(root, logFile) || logFile})`)
+    log(`PostgreSQL is running on 127.0.0.1:${port} (log: ${logFile.startsWith(root) ? path.relative(root, logFile) : logFile})`)
   }
   ensureDatabase(bin, port, 'startproof')
   return { url: databaseUrl(port, 'startproof'), cluster: { bin, dataDir, startedHere } }

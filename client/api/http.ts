@@ -15,6 +15,12 @@ export class ApiError extends Error {
 
 type Method = 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE'
 
+let unauthenticatedHandler: ((url: string) => void) | null = null
+/** Called when any call other than the session check answers 401 (the sign-in ended elsewhere or expired). */
+export function onUnauthenticated(handler: (url: string) => void) {
+  unauthenticatedHandler = handler
+}
+
 /** JSON request to `/api…`; resolves the parsed body, or throws ApiError with the server's code and message. */
 export async function request<T>(method: Method, url: string, body?: unknown): Promise<T> {
   let res: Response
@@ -38,6 +44,7 @@ export async function request<T>(method: Method, url: string, body?: unknown): P
   }
   if (!res.ok) {
     const err = (data as { error?: ApiErrorBody } | undefined)?.error
+    if (res.status === 401 && err?.code === 'not_signed_in' && url !== '/session') unauthenticatedHandler?.(url)
     throw new ApiError(res.status, err?.code ?? 'http_' + res.status, err?.message ?? `The server answered ${res.status} ${res.statusText}`, err?.fields)
   }
   return data as T

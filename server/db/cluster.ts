@@ -89,13 +89,15 @@ function clusterUserCanUse(dir: string): boolean {
  * Prepares the folder that will hold the cluster: creates it, hands it to the cluster user, and checks
  * that user can reach it. Returns the folder to use, or throws with the reason.
  */
+export class UnreachableDirError extends ClusterError {}
+
 export function prepareClusterDir(dir: string): string {
   fs.mkdirSync(dir, { recursive: true, mode: 0o700 })
   if (isRoot()) {
     ensureClusterUser()
     execFileSync('chown', [CLUSTER_USER, dir])
     if (!clusterUserCanUse(dir)) {
-      throw new ClusterError(
+      throw new UnreachableDirError(
         `The PostgreSQL user "${CLUSTER_USER}" cannot reach ${dir}: one of its parent folders is not ` +
           'traversable (for example a project under /root). Set STARTPROOF_DATA_DIR to a folder it can reach, ' +
           'or run `chmod o+x` on the parent folders.',
