@@ -123,7 +123,10 @@ function buildClientIfStale(distDir: string): void {
     return
   }
   log('building the client (vite build) …')
-  const r = spawnSync(path.join(root, 'node_modules/.bin/vite'), ['build', '--logLevel', 'warn'], { cwd: root, stdio: 'inherit' })
+  const r = spawnSync(path.join(root, 'node_modules/.bin/vite'), ['build', '--outDir', distDir, '--emptyOutDir', '--logLevel', 'warn'], {
+    cwd: root,
+    stdio: 'inherit',
+  })
   if (r.status !== 0) throw new Error(`vite build failed (exit ${r.status})`)
 }
 

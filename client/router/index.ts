@@ -2,7 +2,15 @@ import { createRouter, createWebHistory, type RouteLocationRaw, type RouteRecord
 import type { Role } from '@shared/types/roles'
 import { useSessionStore } from '@/stores/session'
 
-export type RouteName = 'sign-in' | 'today' | 'projects' | 'project' | 'people' | 'account' | 'not-found'
+export type RouteName =
+  | 'sign-in'
+  | 'today'
+  | 'projects'
+  | 'project'
+  | 'equipment'
+  | 'people'
+  | 'account'
+  | 'not-found'
 
 declare module 'vue-router' {
   interface RouteMeta {
@@ -21,6 +29,7 @@ const routes: NamedRoute[] = [
   { path: '/', name: 'today', component: () => import('@/views/TodayView.vue'), meta: { roles: ['technician'], title: 'Today' } },
   { path: '/projects', name: 'projects', component: () => import('@/views/ProjectsView.vue'), meta: { title: 'Projects' } },
   { path: '/projects/:projectId', name: 'project', component: () => import('@/views/ProjectView.vue'), meta: { title: 'Project' }, props: true },
+  { path: '/equipment/:equipmentId', name: 'equipment', component: () => import('@/views/EquipmentView.vue'), meta: { title: 'Equipment' }, props: true },
   { path: '/people', name: 'people', component: () => import('@/views/PeopleView.vue'), meta: { roles: ['admin'], title: 'People' } },
   { path: '/account', name: 'account', component: () => import('@/views/AccountView.vue'), meta: { title: 'Account' } },
   { path: '/:pathMatch(.*)*', name: 'not-found', component: () => import('@/views/NotFoundView.vue'), meta: { title: 'Not found' } },

@@ -49,3 +49,52 @@ export interface ProjectMemberSummary {
   role: Role
   active: boolean
 }
+
+export type TemplateVersionStatus = 'draft' | 'published' | 'retired'
+
+/** One problem in a checklist definition, by path (`sections[2].steps[0].fields[3].rule.max`). */
+export interface ValidationIssue {
+  path: string
+  message: string
+}
+
+export interface TemplateVersionSummary {
+  id: string
+  templateId: string
+  number: number
+  status: TemplateVersionStatus
+  changelog: string | null
+  createdAt: string
+  createdByName: string | null
+  updatedAt: string
+  publishedAt: string | null
+  publishedByName: string | null
+  retiredAt: string | null
+  sectionCount: number
+  stepCount: number
+  fieldCount: number
+}
+
+export interface TemplateVersionDetail<Definition = unknown> extends TemplateVersionSummary {
+  definition: Definition
+}
+
+export interface TemplateSummary {
+  id: string
+  /** Stable identifier of the template across versions, e.g. `centrifugal-chiller-startup`. */
+  key: string
+  name: string
+  equipmentKind: string
+  description: string
+  /** Number of the newest published version, or null when none is published yet. */
+  latestPublishedNumber: number | null
+  /** Number of the open draft, or null. At most one draft exists at a time. */
+  draftNumber: number | null
+  versionCount: number
+  updatedAt: string
+}
+
+export interface TemplateDetail extends TemplateSummary {
+  /** Newest first. Non-admins see only published and retired versions. */
+  versions: TemplateVersionSummary[]
+}
