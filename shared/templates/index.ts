@@ -1,0 +1,2 @@
+export { diffDefinitions } from './diff'
+export type { DefinitionDiff, DiffEntry, DiffPropertyChange } from './diff'
