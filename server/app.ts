@@ -12,9 +12,11 @@ import { errorHandler, notFoundHandler } from './errors/error-handler'
 import { requireAuth } from './middleware/auth'
 import { PostgresRateLimitStore } from './middleware/pg-rate-limit-store'
 import { projectRoutes } from './routes/project.routes'
+import { templateRoutes } from './routes/template.routes'
 import { SESSION_COOKIE, sessionRoutes } from './routes/session.routes'
 import { userRoutes } from './routes/user.routes'
 import { ProjectService } from './services/project.service'
+import { TemplateService } from './services/template.service'
 import { UserService } from './services/user.service'
 
 export interface AppDeps {
@@ -30,6 +32,7 @@ export function createApp({ config, db }: AppDeps): Express {
 
   const users = new UserService(db)
   const projects = new ProjectService(db)
+  const templates = new TemplateService(db)
   const passport = createPassport(users)
   const PgStore = connectPgSimple(session)
   // The sessions share TypeORM's pg pool: one pool per process, and it reconnects by itself after an outage.
@@ -76,6 +79,7 @@ export function createApp({ config, db }: AppDeps): Express {
   api.use(sessionRoutes({ config, passport, users, rateLimitStore: new PostgresRateLimitStore(db) }))
   api.use('/users', requireAuth, userRoutes(users))
   api.use('/projects', requireAuth, projectRoutes(projects))
+  api.use('/templates', requireAuth, templateRoutes(templates))
   api.use(notFoundHandler)
   api.use(errorHandler)
   app.use('/api', api)

@@ -34,6 +34,10 @@ export class Project {
   @Column({ type: 'text', name: 'unit_system', default: 'IP' })
   unitSystem: 'IP' | 'SI'
 
+  /** Who receives the sealed report when a run is accepted. */
+  @Column({ type: 'text', array: true, name: 'distribution_list', default: () => "'{}'" })
+  distributionList: string[]
+
   @OneToMany(() => ProjectMember, (m) => m.project)
   members: Relation<ProjectMember[]>
 

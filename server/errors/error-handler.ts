@@ -23,6 +23,20 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
     })
     return
   }
+  const sqlState = (err as { driverError?: { code?: string }; code?: string })?.driverError?.code ?? err?.code
+  if (sqlState === '55000') {
+    // The database refused to change a frozen record (a published template version, an accepted run).
+    res.status(409).json({ error: { code: 'frozen', message: String(err.driverError?.message ?? err.message) } })
+    return
+  }
+  if (sqlState === '23503') {
+    res.status(409).json({ error: { code: 'still_referenced', message: 'Other records still depend on this one, so it was not changed or removed.' } })
+    return
+  }
+  if (sqlState === '23505') {
+    res.status(409).json({ error: { code: 'conflict', message: 'A record with the same identifying values already exists.' } })
+    return
+  }
   const status = typeof err?.status === 'number' ? err.status : typeof err?.statusCode === 'number' ? err.statusCode : 500
   if (err?.type === 'entity.parse.failed') {
     res.status(400).json({ error: { code: 'invalid_json', message: 'The request body is not valid JSON', fields: { body: 'Not valid JSON' } } })
