@@ -1,6 +1,6 @@
 import { EngineeringError, type EngineeringErrorCode } from '../engineering/errors'
 import type { ChecklistDefinition, ChecklistField, FieldRule } from '../schemas/checklist'
-import { DESIGN_POINT_QUANTITIES, isDesignPointKey, type DesignPoint, type DesignPointKey } from '../schemas/design-point'
+import { DESIGN_POINT_QUANTITIES, isDesignPointKey, type AnyDesignPoint, type DesignPointKey } from '../schemas/design-point'
 import type { FieldEntry, SeriesEntry } from '../schemas/reading'
 import { distinguishingDecimals, formatNumber } from '../units/format'
 import {
@@ -21,8 +21,8 @@ import { classify, type LimitSet, type Verdict } from './verdict'
 export interface EvaluationContext {
   /** Entries of the other fields of the run, by field id (needed by computed fields). */
   readings?: Readonly<Record<string, FieldEntry | null | undefined>>
-  /** The equipment's design point (needed by design-relative rules and `design.*` in expressions). */
-  designPoint?: DesignPoint | null
+  /** The equipment's design point, of any kind (needed by design-relative rules and `design.*` in expressions). */
+  designPoint?: AnyDesignPoint | null
   /** The project's unit system: messages and display values use it. */
   unitSystem: UnitSystem
   /** The checklist the field belongs to (needed by computed fields to find the fields they read). */
@@ -82,8 +82,13 @@ function quantityOf(field: ChecklistField): { kind: QuantityKind; unit: string }
   return { kind: field.quantity, unit: field.unit }
 }
 
+/** A design-point value by key, whichever kind of equipment the design point belongs to. */
+function designQuantity(context: EvaluationContext, key: DesignPointKey): { value: number; unit: string } | undefined {
+  return context.designPoint?.[key]
+}
+
 function designValue(context: EvaluationContext, key: DesignPointKey, unit: string, kind: QuantityKind): number {
-  const q = context.designPoint?.[key] as { value: number; unit: string } | undefined
+  const q = designQuantity(context, key)
   if (!q) throw new EngineeringError('MISSING_DESIGN_VALUE', `The equipment's design point has no ${humanKey(key)}`, { key })
   return convert(q.value, q.unit, unit, kind)
 }
@@ -254,11 +259,12 @@ function computeValue(field: ChecklistField, context: EvaluationContext, trail: 
   const system = context.definition.unitSystem ?? 'IP'
   for (const key of parsed.designRefs) {
     if (key === 'refrigerant') {
-      if (context.designPoint?.refrigerant) design.refrigerant = context.designPoint.refrigerant
+      const dp = context.designPoint
+      if (dp && 'refrigerant' in dp && dp.refrigerant) design.refrigerant = dp.refrigerant
       continue
     }
     if (!isDesignPointKey(key)) continue
-    const q = context.designPoint?.[key] as { value: number; unit: string } | undefined
+    const q = designQuantity(context, key)
     if (q) design[key] = convert(q.value, q.unit, displayUnit(DESIGN_POINT_QUANTITIES[key], system), DESIGN_POINT_QUANTITIES[key])
   }
   try {

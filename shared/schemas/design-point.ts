@@ -2,7 +2,25 @@ import { boolean, number, object, string, type InferType } from 'yup'
 import { REFRIGERANTS } from '../engineering/refrigerant'
 import { isUnitOf, toCanonical, unitsOf, type QuantityKind } from '../units/quantities'
 
-/** Every numeric design-point value and the quantity kind it measures. */
+/** The kinds of equipment Startproof commissions; each has its own design point. */
+export const EQUIPMENT_KINDS = ['centrifugal_chiller', 'pump'] as const
+export type EquipmentKind = (typeof EQUIPMENT_KINDS)[number]
+
+/** Plain-English names of the equipment kinds. */
+export const EQUIPMENT_KIND_LABELS: Readonly<Record<EquipmentKind, string>> = {
+  centrifugal_chiller: 'Water-cooled centrifugal chiller',
+  pump: 'Pump (chilled or condenser water)',
+}
+
+/** True when `kind` names one of the equipment kinds. */
+export function isEquipmentKind(kind: unknown): kind is EquipmentKind {
+  return typeof kind === 'string' && (EQUIPMENT_KINDS as readonly string[]).includes(kind)
+}
+
+/**
+ * Every numeric design-point value of every equipment kind and the quantity kind it measures. Checklist rules and
+ * `design.<key>` in expressions name these keys; `designPointKeysFor(kind)` says which belong to which equipment.
+ */
 export const DESIGN_POINT_QUANTITIES = {
   capacity: 'cooling_capacity',
   evaporatorEnteringWaterTemp: 'temperature',
@@ -19,6 +37,12 @@ export const DESIGN_POINT_QUANTITIES = {
   frequency: 'frequency',
   fullLoadAmps: 'current',
   oilPressureSetpoint: 'pressure_differential',
+  chilledWaterSetpointMin: 'temperature',
+  chilledWaterSetpointMax: 'temperature',
+  pumpDesignFlow: 'volumetric_flow',
+  pumpDesignHead: 'pressure_differential',
+  motorRatedPower: 'power',
+  motorRatedSpeed: 'rotational_speed',
 } as const satisfies Record<string, QuantityKind>
 
 export type DesignPointKey = keyof typeof DESIGN_POINT_QUANTITIES
@@ -79,6 +103,8 @@ export const designPointSchema = object({
   frequency: optional('frequency', true),
   fullLoadAmps: optional('current', true),
   oilPressureSetpoint: optional('pressure_differential', true),
+  chilledWaterSetpointMin: optional('temperature'),
+  chilledWaterSetpointMax: optional('temperature'),
   variableSpeedDrive: boolean().optional(),
 })
   .exact('design point has unknown keys: ${properties}')
@@ -94,5 +120,158 @@ export const designPointSchema = object({
     if (entering === null || leaving === null || leaving > entering) return true
     return this.createError({ path: 'condenserLeavingWaterTemp.value', message: 'condenser leaving water must be warmer than entering water' })
   })
+  .test('setpoint-range', function (dp) {
+    const low = canonicalOrNull(dp?.chilledWaterSetpointMin, 'temperature')
+    const high = canonicalOrNull(dp?.chilledWaterSetpointMax, 'temperature')
+    if (low === null || high === null || high > low) return true
+    return this.createError({ path: 'chilledWaterSetpointMax.value', message: 'the highest allowed chilled-water setpoint must be above the lowest' })
+  })
 
-export type DesignPoint = InferType<typeof designPointSchema>
+type ChillerShape = InferType<typeof designPointSchema>
+/**
+ * Design point of a water-cooled centrifugal chiller. The other kinds' keys are typed as absent, so any
+ * `DesignPointKey` may index it (`designPoint[key]` is undefined for a pump value).
+ */
+export type DesignPoint = ChillerShape & { [K in Exclude<DesignPointKey, keyof ChillerShape>]?: undefined }
+
+/** What a pump moves: chilled water or condenser water. */
+export const PUMP_SERVICES = ['chilled_water', 'condenser_water'] as const
+export type PumpService = (typeof PUMP_SERVICES)[number]
+
+/**
+ * Design point of a chilled-water or condenser-water pump: the pump curve point (flow and total dynamic head, as a
+ * differential pressure such as ft of water or kPa) and the motor nameplate.
+ */
+export const pumpDesignPointSchema = object({
+  pumpService: string()
+    .oneOf([...PUMP_SERVICES], `\${path} must be one of ${PUMP_SERVICES.join(', ')}`)
+    .optional(),
+  pumpDesignFlow: required('volumetric_flow', true),
+  pumpDesignHead: required('pressure_differential', true),
+  motorRatedPower: required('power', true),
+  motorRatedSpeed: required('rotational_speed', true),
+  voltage: required('voltage', true),
+  frequency: optional('frequency', true),
+  fullLoadAmps: required('current', true),
+  variableSpeedDrive: boolean().optional(),
+})
+  .exact('design point has unknown keys: ${properties}')
+  .test('speed-below-synchronous', function (dp) {
+    // An induction motor runs below its synchronous speed 120·f / poles; two poles give the fastest, 60·f r/min.
+    const speed = canonicalOrNull(dp?.motorRatedSpeed, 'rotational_speed')
+    const hz = canonicalOrNull(dp?.frequency, 'frequency')
+    if (speed === null || hz === null || speed <= 2 * Math.PI * hz + 1e-9) return true
+    return this.createError({ path: 'motorRatedSpeed.value', message: `rated speed is above ${Math.round(60 * hz)} rpm, the two-pole synchronous speed at ${hz} Hz` })
+  })
+
+type PumpShape = InferType<typeof pumpDesignPointSchema>
+/** Design point of a pump; the chiller's keys are typed as absent, as for `DesignPoint`. */
+export type PumpDesignPoint = PumpShape & { [K in Exclude<DesignPointKey, keyof PumpShape>]?: undefined }
+
+/** A design point of any equipment kind (what rules and expressions read from). */
+export type AnyDesignPoint = DesignPoint | PumpDesignPoint
+
+/** The design point schema of one equipment kind. */
+export function designPointSchemaFor(kind: 'centrifugal_chiller'): typeof designPointSchema
+export function designPointSchemaFor(kind: 'pump'): typeof pumpDesignPointSchema
+export function designPointSchemaFor(kind: EquipmentKind): typeof designPointSchema | typeof pumpDesignPointSchema
+export function designPointSchemaFor(kind: EquipmentKind): typeof designPointSchema | typeof pumpDesignPointSchema {
+  switch (kind) {
+    case 'centrifugal_chiller':
+      return designPointSchema
+    case 'pump':
+      return pumpDesignPointSchema
+    default:
+      throw new Error(`Unknown equipment kind "${String(kind)}" (have: ${EQUIPMENT_KINDS.join(', ')})`)
+  }
+}
+
+/** Every key a design point form may show: the numeric values and the refrigerant, drive and service choices. */
+export type DesignPointFieldKey = DesignPointKey | 'refrigerant' | 'variableSpeedDrive' | 'pumpService'
+
+/** Plain-English label of each design-point key, for forms, reports and messages. */
+export const DESIGN_POINT_LABELS: Readonly<Record<DesignPointFieldKey, string>> = {
+  refrigerant: 'Refrigerant',
+  capacity: 'Cooling capacity',
+  evaporatorEnteringWaterTemp: 'Evaporator entering water temperature',
+  evaporatorLeavingWaterTemp: 'Evaporator leaving water temperature',
+  evaporatorWaterFlow: 'Evaporator water flow',
+  evaporatorPressureDrop: 'Evaporator water pressure drop',
+  condenserEnteringWaterTemp: 'Condenser entering water temperature',
+  condenserLeavingWaterTemp: 'Condenser leaving water temperature',
+  condenserWaterFlow: 'Condenser water flow',
+  condenserPressureDrop: 'Condenser water pressure drop',
+  designKwPerTon: 'Full-load efficiency (kW/ton)',
+  inputPower: 'Input power at design',
+  voltage: 'Rated voltage',
+  frequency: 'Rated frequency',
+  fullLoadAmps: 'Full-load amps',
+  oilPressureSetpoint: 'Oil pressure setpoint (differential)',
+  chilledWaterSetpointMin: 'Lowest allowed leaving chilled-water setpoint',
+  chilledWaterSetpointMax: 'Highest allowed leaving chilled-water setpoint',
+  variableSpeedDrive: 'Variable-speed drive',
+  pumpService: 'Service (chilled or condenser water)',
+  pumpDesignFlow: 'Design flow',
+  pumpDesignHead: 'Design head (total dynamic head)',
+  motorRatedPower: 'Motor rated power',
+  motorRatedSpeed: 'Rated speed',
+}
+
+/** One entry of a design-point form: its key, label, what it measures (null for a choice) and whether it is required. */
+export interface DesignPointFormField {
+  key: DesignPointFieldKey
+  label: string
+  quantity: QuantityKind | null
+  required: boolean
+}
+
+// Form order per kind, with the schema's required flags (tests/shared/schemas.test.ts holds them to the schemas).
+const FORM: Readonly<Record<EquipmentKind, ReadonlyArray<readonly [DesignPointFieldKey, boolean]>>> = {
+  centrifugal_chiller: [
+    ['refrigerant', true],
+    ['capacity', true],
+    ['evaporatorEnteringWaterTemp', true],
+    ['evaporatorLeavingWaterTemp', true],
+    ['evaporatorWaterFlow', true],
+    ['evaporatorPressureDrop', false],
+    ['condenserEnteringWaterTemp', true],
+    ['condenserLeavingWaterTemp', true],
+    ['condenserWaterFlow', true],
+    ['condenserPressureDrop', false],
+    ['designKwPerTon', false],
+    ['inputPower', false],
+    ['voltage', false],
+    ['frequency', false],
+    ['fullLoadAmps', false],
+    ['oilPressureSetpoint', false],
+    ['chilledWaterSetpointMin', false],
+    ['chilledWaterSetpointMax', false],
+    ['variableSpeedDrive', false],
+  ],
+  pump: [
+    ['pumpService', false],
+    ['pumpDesignFlow', true],
+    ['pumpDesignHead', true],
+    ['motorRatedPower', true],
+    ['motorRatedSpeed', true],
+    ['voltage', true],
+    ['frequency', false],
+    ['fullLoadAmps', true],
+    ['variableSpeedDrive', false],
+  ],
+}
+
+/** The design-point keys of one equipment kind, in form order. */
+export function designPointKeysFor(kind: EquipmentKind): DesignPointFieldKey[] {
+  return (FORM[kind] ?? []).map(([key]) => key)
+}
+
+/** The form of one equipment kind's design point: key, label, quantity kind and required flag, in order. */
+export function designPointFormFor(kind: EquipmentKind): DesignPointFormField[] {
+  return (FORM[kind] ?? []).map(([key, req]) => ({
+    key,
+    label: DESIGN_POINT_LABELS[key],
+    quantity: isDesignPointKey(key) ? DESIGN_POINT_QUANTITIES[key] : null,
+    required: req,
+  }))
+}

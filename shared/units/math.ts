@@ -11,3 +11,6 @@ math.createUnit('TR', '12000 BTU/h')
 math.createUnit('inHg', '3386.389 Pa')
 math.createUnit('inH2O', '249.0889 Pa')
 math.createUnit('ftH2O', '2989.067 Pa')
+// Angular misalignment as laser alignment tools show it, millimetres per 100 mm (a ratio: 1 mm/100 mm = 10 mm/m).
+// mathjs has mil (0.001 in), in/s, mm/s and cycle (2π rad) for speed in r/min already.
+math.createUnit('mmPer100mm', '0.01 mm/mm')

@@ -17,6 +17,10 @@ export const QUANTITY_KINDS = [
   'cooling_capacity',
   'specific_power',
   'efficiency',
+  'rotational_speed',
+  'vibration_velocity',
+  'alignment_offset',
+  'alignment_angularity',
 ] as const
 export type QuantityKind = (typeof QUANTITY_KINDS)[number]
 
@@ -140,6 +144,43 @@ const KINDS: Record<QuantityKind, KindSpec> = {
   efficiency: {
     label: 'efficiency', ip: 'COP', si: 'COP', canonical: 'COP',
     units: [u('efficiency', 'COP', 'COP', 'W/W', 2), u('efficiency', 'EER', 'Btu/(W·h)', 'BTU/(W h)', 2)],
+  },
+  // Shaft speed: 1 r/min = 2π/60 rad/s = 0.104 719 8 rad/s (NIST SP 811 (2008) App. B.8); mathjs's cycle is 2π rad.
+  rotational_speed: {
+    label: 'rotational speed', ip: 'rpm', si: 'rpm', canonical: 'radps',
+    units: [
+      u('rotational_speed', 'rpm', 'rpm', 'cycle/minute', 0),
+      u('rotational_speed', 'rps', 'r/s', 'cycle/s', 2),
+      u('rotational_speed', 'radps', 'rad/s', 'rad/s', 2),
+    ],
+  },
+  // Vibration velocity (overall, RMS or peak as the field says): 1 in = 0.0254 m exactly (NIST SP 811 (2008) App. B.8).
+  vibration_velocity: {
+    label: 'vibration velocity', ip: 'inps', si: 'mmps', canonical: 'mps',
+    units: [
+      u('vibration_velocity', 'inps', 'in/s', 'in/s', 3),
+      u('vibration_velocity', 'mmps', 'mm/s', 'mm/s', 2),
+      u('vibration_velocity', 'mps', 'm/s', 'm/s', 5),
+    ],
+  },
+  // Shaft alignment offset, face gap and soft foot: 1 mil = 0.001 in = 0.0254 mm (NIST SP 811 (2008) App. B.8).
+  alignment_offset: {
+    label: 'alignment offset', ip: 'mil', si: 'mm', canonical: 'm',
+    units: [
+      u('alignment_offset', 'mil', 'mils', 'mil', 1),
+      u('alignment_offset', 'mm', 'mm', 'mm', 3),
+      u('alignment_offset', 'in', 'in', 'in', 4),
+      u('alignment_offset', 'm', 'm', 'm', 6),
+    ],
+  },
+  // Angular misalignment as a slope: 1 mil/in = 1 mm/m; 1 mm/100 mm = 10 mm/m (ratios of lengths, NIST SP 811).
+  alignment_angularity: {
+    label: 'angular misalignment', ip: 'milPerIn', si: 'mmPer100mm', canonical: 'mmPerM',
+    units: [
+      u('alignment_angularity', 'milPerIn', 'mils/in', 'mil/in', 2),
+      u('alignment_angularity', 'mmPer100mm', 'mm/100 mm', 'mmPer100mm', 3),
+      u('alignment_angularity', 'mmPerM', 'mm/m', 'mm/m', 2),
+    ],
   },
 }
 

@@ -2,7 +2,22 @@ import { readFileSync } from 'node:fs'
 import { describe, expect, it } from 'vitest'
 import { SATURATION_PRESSURE_KPA_ABS, SATURATION_TEMPERATURE_F } from '../../shared/data/refrigerant-saturation'
 import { checklistDefinitionSchema, validateChecklistDefinition } from '../../shared/schemas/checklist'
-import { designPointSchema } from '../../shared/schemas/design-point'
+import {
+  DESIGN_POINT_KEYS,
+  DESIGN_POINT_LABELS,
+  DESIGN_POINT_QUANTITIES,
+  EQUIPMENT_KIND_LABELS,
+  EQUIPMENT_KINDS,
+  designPointFormFor,
+  designPointKeysFor,
+  designPointSchema,
+  designPointSchemaFor,
+  isEquipmentKind,
+  pumpDesignPointSchema,
+  type EquipmentKind,
+  type PumpDesignPoint,
+} from '../../shared/schemas/design-point'
+import { isUnitOf } from '../../shared/units'
 import { entrySchemaFor, readingSchema } from '../../shared/schemas/reading'
 import { definition, designPoint, field } from './fixtures'
 
@@ -86,6 +101,97 @@ describe('design point schema', () => {
       caught = err as typeof caught
     }
     expect(caught?.inner.map((e) => e.path)).toContain(path)
+  })
+})
+
+// An invented 1500 gpm condenser-water pump for the 500-ton machine of the fixtures (3.0 gpm/ton, AHRI 550/590 [S]),
+// 65 ft of head, 40 hp four-pole motor at 460 V / 60 Hz (synchronous 1800 rpm, rated 1780 rpm).
+const pumpDesignPoint: PumpDesignPoint = {
+  pumpService: 'condenser_water',
+  pumpDesignFlow: { value: 1500, unit: 'gpm' },
+  pumpDesignHead: { value: 65, unit: 'ftH2O' },
+  motorRatedPower: { value: 40, unit: 'hp' },
+  motorRatedSpeed: { value: 1780, unit: 'rpm' },
+  voltage: { value: 460, unit: 'V' },
+  frequency: { value: 60, unit: 'Hz' },
+  fullLoadAmps: { value: 48, unit: 'A' },
+}
+
+function pathsOf(schema: { validateSync(v: unknown, o: object): unknown }, value: unknown): string[] {
+  try {
+    schema.validateSync(value, { abortEarly: false })
+    return []
+  } catch (err) {
+    return (err as { inner: Array<{ path?: string }> }).inner.map((e) => e.path ?? '')
+  }
+}
+
+describe('equipment kinds and their design points', () => {
+  it('when the kinds are listed, then there are the chiller and the pump with plain-English labels', () => {
+    expect(EQUIPMENT_KINDS).toEqual(['centrifugal_chiller', 'pump'])
+    expect(EQUIPMENT_KIND_LABELS).toEqual({ centrifugal_chiller: 'Water-cooled centrifugal chiller', pump: 'Pump (chilled or condenser water)' })
+    expect(isEquipmentKind('pump')).toBe(true)
+    expect(isEquipmentKind('cooling_tower')).toBe(false)
+  })
+  it('when the schema for each kind is asked for, then the chiller gets the existing schema and the pump its own', () => {
+    expect(designPointSchemaFor('centrifugal_chiller')).toBe(designPointSchema)
+    expect(designPointSchemaFor('pump')).toBe(pumpDesignPointSchema)
+    expect(() => designPointSchemaFor('boiler' as EquipmentKind)).toThrow(/Unknown equipment kind/)
+  })
+  it('when the pump design point is complete, then it validates; the chiller schema refuses it and the pump schema refuses a chiller one', () => {
+    expect(pumpDesignPointSchema.validateSync(pumpDesignPoint)).toEqual(pumpDesignPoint)
+    expect(pathsOf(designPointSchema, pumpDesignPoint)).toContain('refrigerant')
+    expect(pathsOf(pumpDesignPointSchema, designPoint)).toEqual(expect.arrayContaining(['pumpDesignFlow', 'pumpDesignHead']))
+  })
+  it('when the pump head is given in kPa, then it is accepted (ft of water and kPa both measure differential pressure)', () => {
+    expect(pathsOf(pumpDesignPointSchema, { ...pumpDesignPoint, pumpDesignHead: { value: 194.3, unit: 'kPad' } })).toEqual([])
+  })
+  it.each([
+    ['no design flow', { pumpDesignFlow: undefined }, 'pumpDesignFlow'],
+    ['a head in psig (a gauge pressure, not a head)', { pumpDesignHead: { value: 28, unit: 'psig' } }, 'pumpDesignHead.unit'],
+    ['zero head', { pumpDesignHead: { value: 0, unit: 'ftH2O' } }, 'pumpDesignHead.value'],
+    ['a speed in Hz', { motorRatedSpeed: { value: 30, unit: 'Hz' } }, 'motorRatedSpeed.unit'],
+    ['a rated speed above the two-pole synchronous speed (3600 rpm at 60 Hz)', { motorRatedSpeed: { value: 3650, unit: 'rpm' } }, 'motorRatedSpeed.value'],
+    ['an unknown service', { pumpService: 'hot_water' }, 'pumpService'],
+    ['a refrigerant, which a pump does not have', { refrigerant: 'R-134a' }, ''],
+  ])('when the pump design point has %s, then the error names %s', (_n, patch, path) => {
+    expect(pathsOf(pumpDesignPointSchema, { ...pumpDesignPoint, ...patch })).toContain(path)
+  })
+  it('when a 3550 rpm two-pole motor is rated at 60 Hz, then it is accepted; at 50 Hz (3000 rpm synchronous) it is refused', () => {
+    // Synchronous speed 120 · f / poles (NEMA MG 1 definitions) [S]
+    expect(pathsOf(pumpDesignPointSchema, { ...pumpDesignPoint, motorRatedSpeed: { value: 3550, unit: 'rpm' } })).toEqual([])
+    expect(pathsOf(pumpDesignPointSchema, { ...pumpDesignPoint, motorRatedSpeed: { value: 3550, unit: 'rpm' }, frequency: { value: 50, unit: 'Hz' } })).toContain('motorRatedSpeed.value')
+  })
+  it('when the chiller has an allowed setpoint range, then it must run upwards', () => {
+    const range = { chilledWaterSetpointMin: { value: 40, unit: 'degF' }, chilledWaterSetpointMax: { value: 55, unit: 'degF' } }
+    expect(pathsOf(designPointSchema, { ...designPoint, ...range })).toEqual([])
+    expect(pathsOf(designPointSchema, { ...designPoint, ...range, chilledWaterSetpointMax: { value: 4, unit: 'degC' } })).toContain('chilledWaterSetpointMax.value')
+  })
+
+  it('when every numeric design key is checked, then it has a label and belongs to at least one kind', () => {
+    const used = new Set(EQUIPMENT_KINDS.flatMap((k) => designPointKeysFor(k)))
+    for (const key of DESIGN_POINT_KEYS) {
+      expect(DESIGN_POINT_LABELS[key], key).toMatch(/^[A-Z]/)
+      expect(used.has(key), key).toBe(true)
+    }
+  })
+  it.each(EQUIPMENT_KINDS.map((k) => [k]))('when the %s form is built, then it lists exactly the schema keys with the schema\'s required flags', (kind) => {
+    const described = designPointSchemaFor(kind).describe().fields as Record<string, { optional: boolean }>
+    const form = designPointFormFor(kind)
+    expect(form.map((f) => f.key).sort()).toEqual(Object.keys(described).sort())
+    for (const f of form) {
+      expect(f.required, f.key).toBe(!described[f.key].optional)
+      expect(f.label).toBe(DESIGN_POINT_LABELS[f.key])
+      if (f.quantity) expect(f.quantity).toBe(DESIGN_POINT_QUANTITIES[f.key as keyof typeof DESIGN_POINT_QUANTITIES])
+    }
+    expect(designPointKeysFor(kind)).toEqual(form.map((f) => f.key))
+  })
+  it('when the pump keys are listed, then head is a differential pressure accepting ft of water and kPa, and speed is in rpm', () => {
+    expect(DESIGN_POINT_QUANTITIES.pumpDesignHead).toBe('pressure_differential')
+    expect(isUnitOf('pressure_differential', 'ftH2O') && isUnitOf('pressure_differential', 'kPad')).toBe(true)
+    expect(DESIGN_POINT_QUANTITIES.motorRatedSpeed).toBe('rotational_speed')
+    expect(isUnitOf('rotational_speed', 'rpm')).toBe(true)
+    expect(designPointKeysFor('pump')).toEqual(['pumpService', 'pumpDesignFlow', 'pumpDesignHead', 'motorRatedPower', 'motorRatedSpeed', 'voltage', 'frequency', 'fullLoadAmps', 'variableSpeedDrive'])
   })
 })
 

@@ -38,6 +38,14 @@ describe('unit conversions against NIST SP 811 factors', () => {
     ['0 °C is 273.15 K', 0, 'degC', 'K', 'temperature', 273.15],
     ['0.576 kW/ton is 0.1638 kW/kW', 0.576, 'kWPerTon', 'kWPerKW', 'specific_power', 0.576 / 3.516853],
     ['COP 1 is 3.412 Btu/(W·h)', 1, 'COP', 'EER', 'efficiency', 3.412142],
+    ['1 r/min is 0.104 719 8 rad/s', 1, 'rpm', 'radps', 'rotational_speed', 0.1047198],
+    ['1800 r/min is 30 r/s', 1800, 'rpm', 'rps', 'rotational_speed', 30],
+    ['1 in/s is 25.4 mm/s (1 in = 0.0254 m exactly)', 1, 'inps', 'mmps', 'vibration_velocity', 25.4],
+    ['0.15 in/s is 0.003 81 m/s', 0.15, 'inps', 'mps', 'vibration_velocity', 0.00381],
+    ['1 mil is 0.0254 mm', 1, 'mil', 'mm', 'alignment_offset', 0.0254],
+    ['1000 mils is 1 in', 1000, 'mil', 'in', 'alignment_offset', 1],
+    ['1 mil/in is 1 mm/m', 1, 'milPerIn', 'mmPerM', 'alignment_angularity', 1],
+    ['0.05 mm/100 mm is 0.5 mil/in', 0.05, 'mmPer100mm', 'milPerIn', 'alignment_angularity', 0.5],
   ]
   it.each(cases)('when converting %s, then mathjs agrees to 1e-6', (_name, value, from, to, kind, expected) => {
     if (expected === 0) expect(Math.abs(convert(value, from, to, kind))).toBeLessThan(1e-12)
@@ -55,6 +63,9 @@ describe('unit conversions cross-checked against js-quantities (a second, indepe
     ['minutes to seconds', 2.5, 'min', 's', 'time', 'min', 's'],
     ['°F difference to K', 10, 'deltaF', 'K', 'temperature_difference', 'degF', 'degK'],
     ['bar to psi', 3, 'barg', 'psig', 'pressure_gauge', 'bar', 'psi'],
+    ['rpm to rad/s', 1780, 'rpm', 'radps', 'rotational_speed', 'rpm', 'rad/s'],
+    ['in/s to mm/s', 0.15, 'inps', 'mmps', 'vibration_velocity', 'in/s', 'mm/s'],
+    ['mils to mm', 4, 'mil', 'mm', 'alignment_offset', 'mil', 'mm'],
   ]
   it.each(cases)('when converting %s, then both libraries agree to 1e-5', (_n, value, from, to, kind, qFrom, qTo) => {
     rel(convert(value, from, to, kind), Qty(value, qFrom).to(qTo).scalar, 1e-5)
@@ -121,14 +132,24 @@ describe('display and formatting', () => {
     [0.5764, 'kWPerTon', 'specific_power', '0.576 kW/ton'],
     [501.54, 'TR', 'cooling_capacity', '501.5 tons'],
     [-0.01, 'degF', 'temperature', '0 °F'],
+    [1780, 'rpm', 'rotational_speed', '1780 rpm'],
+    [0.1234, 'inps', 'vibration_velocity', '0.123 in/s'],
+    [3.14, 'mmps', 'vibration_velocity', '3.14 mm/s'],
+    [2.04, 'mil', 'alignment_offset', '2 mils'],
+    [0.3, 'milPerIn', 'alignment_angularity', '0.3 mils/in'],
   ] as const)('when %d %s is formatted, then it reads "%s"', (value, unit, kind, text) => {
     expect(formatQuantity(value, unit, kind)).toBe(text)
   })
 })
 
 describe('the private mathjs instance', () => {
-  it('when the ton of refrigeration is added, then the global mathjs does not know it', () => {
+  it('when the ton of refrigeration and mm/100 mm are added, then the global mathjs does not know them', () => {
     expect(() => globalUnit(1, 'TR')).toThrow()
+    expect(() => globalUnit(1, 'mmPer100mm')).toThrow()
+  })
+  it('when a vibration velocity is given in a length unit, then UNIT_MISMATCH is thrown (kinds never mix)', () => {
+    expect(() => convert(1, 'mil', 'mmps', 'vibration_velocity')).toThrow(expect.objectContaining({ code: 'UNIT_MISMATCH' }))
+    expect(() => convert(1, 'rpm', 'Hz', 'rotational_speed')).toThrow(expect.objectContaining({ code: 'UNIT_MISMATCH' }))
   })
 })
 
