@@ -78,6 +78,7 @@ async function prepareLocalCluster(): Promise<{ url: string; cluster: LocalClust
     log(`PostgreSQL is running on 127.0.0.1:${port} (log: ${logFile.startsWith(root) ? path.relative(root, logFile) : logFile})`)
   }
   ensureDatabase(bin, port, 'startproof')
+  process.env.STORAGE_DIR ??= path.join(base, 'files')
   return { url: databaseUrl(port, 'startproof'), cluster: { bin, dataDir, startedHere } }
 }
 

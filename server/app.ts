@@ -11,11 +11,14 @@ import { createPassport } from './auth/passport'
 import { errorHandler, notFoundHandler } from './errors/error-handler'
 import { requireAuth } from './middleware/auth'
 import { PostgresRateLimitStore } from './middleware/pg-rate-limit-store'
+import { equipmentRoutes } from './routes/equipment.routes'
 import { projectRoutes } from './routes/project.routes'
 import { templateRoutes } from './routes/template.routes'
 import { SESSION_COOKIE, sessionRoutes } from './routes/session.routes'
 import { userRoutes } from './routes/user.routes'
+import { EquipmentService } from './services/equipment.service'
 import { ProjectService } from './services/project.service'
+import { LocalDiskStorage, StorageService } from './storage/storage'
 import { TemplateService } from './services/template.service'
 import { UserService } from './services/user.service'
 
@@ -33,6 +36,9 @@ export function createApp({ config, db }: AppDeps): Express {
   const users = new UserService(db)
   const projects = new ProjectService(db)
   const templates = new TemplateService(db)
+  const storage = new StorageService(new LocalDiskStorage(path.resolve(config.STORAGE_DIR)))
+  const equipment = new EquipmentService(db, projects, storage)
+  const equipmentRouters = equipmentRoutes(config, equipment, projects)
   const passport = createPassport(users)
   const PgStore = connectPgSimple(session)
   // The sessions share TypeORM's pg pool: one pool per process, and it reconnects by itself after an outage.
@@ -78,7 +84,9 @@ export function createApp({ config, db }: AppDeps): Express {
   api.use(passport.session())
   api.use(sessionRoutes({ config, passport, users, rateLimitStore: new PostgresRateLimitStore(db) }))
   api.use('/users', requireAuth, userRoutes(users))
+  api.use('/projects/:projectId/equipment', requireAuth, equipmentRouters.byProject)
   api.use('/projects', requireAuth, projectRoutes(projects))
+  api.use('/equipment', requireAuth, equipmentRouters.byId)
   api.use('/templates', requireAuth, templateRoutes(templates))
   api.use(notFoundHandler)
   api.use(errorHandler)

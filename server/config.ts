@@ -53,6 +53,8 @@ const configSchema = yup.object({
     .positive()
     .default(15),
   CLIENT_DIST: yup.string().default('dist/client'),
+  STORAGE_DIR: yup.string().default('data/files'),
+  UPLOAD_MAX_MB: yup.number().typeError('UPLOAD_MAX_MB must be a number').positive().max(100).default(15),
   LOG_REQUESTS: yup.boolean().default(false),
 })
 

@@ -23,14 +23,23 @@ export function onUnauthenticated(handler: (url: string) => void) {
 
 /** JSON request to `/api…`; resolves the parsed body, or throws ApiError with the server's code and message. */
 export async function request<T>(method: Method, url: string, body?: unknown): Promise<T> {
+  return send<T>(method, url, {
+    headers: { Accept: 'application/json', ...(body !== undefined ? { 'Content-Type': 'application/json' } : {}) },
+    body: body !== undefined ? JSON.stringify(body) : undefined,
+  })
+}
+
+/** Uploads one file as multipart form data (`field` is the form field's name). */
+export async function upload<T>(url: string, field: string, file: File): Promise<T> {
+  const form = new FormData()
+  form.append(field, file, file.name)
+  return send<T>('PUT', url, { headers: { Accept: 'application/json' }, body: form })
+}
+
+async function send<T>(method: Method, url: string, init: { headers: Record<string, string>; body?: BodyInit }): Promise<T> {
   let res: Response
   try {
-    res = await fetch(`/api${url}`, {
-      method,
-      credentials: 'same-origin',
-      headers: { Accept: 'application/json', ...(body !== undefined ? { 'Content-Type': 'application/json' } : {}) },
-      body: body !== undefined ? JSON.stringify(body) : undefined,
-    })
+    res = await fetch(`/api${url}`, { method, credentials: 'same-origin', ...init })
   } catch {
     throw new ApiError(0, 'network', 'The server cannot be reached. Check the connection and try again; what you typed is kept.')
   }

@@ -9,7 +9,8 @@ export class Attachment {
   @Column({ type: 'uuid', name: 'organization_id' })
   organizationId: string
 
-  @Column({ type: 'text', name: 'storage_key', unique: true })
+  /** Content-addressed, so identical files uploaded twice share one stored object. */
+  @Column({ type: 'text', name: 'storage_key' })
   storageKey: string
 
   @Column({ type: 'char', length: 64 })

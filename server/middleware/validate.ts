@@ -1,4 +1,4 @@
-import type { RequestHandler } from 'express'
+import type { Request, RequestHandler } from 'express'
 import * as yup from 'yup'
 import { AppError } from '../errors/app-error'
 
@@ -17,10 +17,12 @@ export function fieldErrors(err: yup.ValidationError, prefix = ''): Record<strin
 
 /**
  * Validates `req.body`, `req.query` and `req.params` against shared schemas, reporting every problem at
- * once (400 with the field paths), and replaces them with the parsed values.
+ * once (400 with the field paths), and replaces them with the parsed values. The schemas may depend on the
+ * request (pass a function), e.g. an equipment item's design point is checked against its kind's schema.
  */
-export function validate(schemas: Schemas): RequestHandler {
+export function validate(schemasOrPick: Schemas | ((req: Request) => Schemas)): RequestHandler {
   return async (req, _res, next) => {
+    const schemas = typeof schemasOrPick === 'function' ? schemasOrPick(req) : schemasOrPick
     const fields: Record<string, string> = {}
     for (const part of ['params', 'query', 'body'] as const) {
       const schema = schemas[part]

@@ -9,7 +9,7 @@ export class EquipmentAndTemplates1764640800000 implements MigrationInterface {
       CREATE TABLE attachment (
         id uuid PRIMARY KEY DEFAULT gen_random_uuid(),
         organization_id uuid NOT NULL REFERENCES organization(id) ON DELETE RESTRICT,
-        storage_key text NOT NULL CONSTRAINT attachment_storage_key_key UNIQUE,
+        storage_key text NOT NULL,
         sha256 char(64) NOT NULL CHECK (sha256 ~ '^[0-9a-f]{64}$'),
         mime_type text NOT NULL,
         size_bytes bigint NOT NULL CHECK (size_bytes > 0),

@@ -1,19 +1,27 @@
-import { DataSource, In } from 'typeorm'
+import { DataSource, In, type EntityManager } from 'typeorm'
 import type { ProjectMemberSummary, ProjectSummary, SessionUser } from '@shared/types/api'
+import type { ProjectCreateInput, ProjectUpdateInput } from '@shared/schemas/project'
 import { AppError } from '../errors/app-error'
-import { Project, ProjectMember } from '../entities'
+import { Equipment, Project, ProjectMember, User } from '../entities'
+import { recordAudit } from './audit.service'
+import type { Actor } from './user.service'
 
-function toSummary(p: Project, memberCount: number): ProjectSummary {
+type ProjectFields = Pick<Project, 'code' | 'name' | 'siteName' | 'siteAddress' | 'timeZone' | 'unitSystem' | 'distributionList'>
+
+function snapshot(p: Project): ProjectFields {
   return {
-    id: p.id,
     code: p.code,
     name: p.name,
     siteName: p.siteName,
     siteAddress: p.siteAddress,
     timeZone: p.timeZone,
     unitSystem: p.unitSystem,
-    memberCount,
+    distributionList: p.distributionList,
   }
+}
+
+function toSummary(p: Project, memberCount: number, equipmentCount: number): ProjectSummary {
+  return { id: p.id, ...snapshot(p), memberCount, equipmentCount }
 }
 
 /** Projects and who may see them: admins see their firm's projects, everyone else only their memberships. */
@@ -37,27 +45,83 @@ export class ProjectService {
     return this.isMember(user.id, projectId)
   }
 
+  private async summaries(ids: string[]): Promise<ProjectSummary[]> {
+    if (!ids.length) return []
+    const rows: { id: string; members: number; equipment: number }[] = await this.db.query(
+      `SELECT p.id,
+              (SELECT count(*)::int FROM project_member m WHERE m.project_id = p.id) AS members,
+              (SELECT count(*)::int FROM equipment e WHERE e.project_id = p.id) AS equipment
+         FROM project p WHERE p.id = ANY($1::uuid[])`,
+      [ids],
+    )
+    const projects = await this.db.getRepository(Project).findBy({ id: In(ids) })
+    const byId = new Map(rows.map((r) => [r.id, r]))
+    return projects
+      .sort((a, b) => a.name.localeCompare(b.name))
+      .map((p) => toSummary(p, byId.get(p.id)?.members ?? 0, byId.get(p.id)?.equipment ?? 0))
+  }
+
   async listFor(user: SessionUser): Promise<ProjectSummary[]> {
     const visible =
       user.role === 'admin'
         ? `p.organization_id = (SELECT organization_id FROM app_user WHERE id = $1)`
         : `EXISTS (SELECT 1 FROM project_member pm WHERE pm.project_id = p.id AND pm.user_id = $1)`
-    const rows: { id: string; member_count: number }[] = await this.db.query(
-      `SELECT p.id, (SELECT count(*)::int FROM project_member c WHERE c.project_id = p.id) AS member_count
-         FROM project p WHERE ${visible} ORDER BY p.name`,
-      [user.id],
-    )
-    if (!rows.length) return []
-    const projects = await this.db.getRepository(Project).findBy({ id: In(rows.map((r) => r.id)) })
-    const byId = new Map(projects.map((p) => [p.id, p]))
-    return rows.map((r) => toSummary(byId.get(r.id)!, r.member_count))
+    const rows: { id: string }[] = await this.db.query(`SELECT p.id FROM project p WHERE ${visible}`, [user.id])
+    return this.summaries(rows.map((r) => r.id))
   }
 
   async get(projectId: string): Promise<ProjectSummary> {
-    const project = await this.db.getRepository(Project).findOneBy({ id: projectId })
-    if (!project) throw AppError.notFound('Project')
-    const count = await this.db.getRepository(ProjectMember).countBy({ projectId })
-    return toSummary(project, count)
+    const [summary] = await this.summaries([projectId])
+    if (!summary) throw AppError.notFound('Project')
+    return summary
+  }
+
+  private async assertCodeFree(tx: EntityManager, code: string, exceptId?: string) {
+    const existing = await tx.getRepository(Project).findOneBy({ code })
+    if (existing && existing.id !== exceptId) {
+      throw new AppError('code_taken', `Project code ${code} is already used`, 409, { code: 'This project code is already used' })
+    }
+  }
+
+  async create(input: ProjectCreateInput, actor: Actor): Promise<ProjectSummary> {
+    const id = await this.db.transaction(async (tx) => {
+      await this.assertCodeFree(tx, input.code)
+      const me = await tx.getRepository(User).findOneByOrFail({ id: actor.id })
+      const saved = await tx.getRepository(Project).save({ ...input, organizationId: me.organizationId })
+      await recordAudit(tx, { actorId: actor.id, action: 'project.create', entityType: 'project', entityId: saved.id, projectId: saved.id, after: snapshot(saved), ip: actor.ip })
+      return saved.id
+    })
+    return this.get(id)
+  }
+
+  async update(projectId: string, input: ProjectUpdateInput, actor: Actor): Promise<ProjectSummary> {
+    await this.db.transaction(async (tx) => {
+      const project = await tx.getRepository(Project).findOne({ where: { id: projectId }, lock: { mode: 'pessimistic_write' } })
+      if (!project) throw AppError.notFound('Project')
+      if (input.code !== undefined) await this.assertCodeFree(tx, input.code, projectId)
+      const before = snapshot(project)
+      for (const [key, value] of Object.entries(input)) {
+        if (value !== undefined) (project as unknown as Record<string, unknown>)[key] = value
+      }
+      await tx.getRepository(Project).save(project)
+      await recordAudit(tx, { actorId: actor.id, action: 'project.update', entityType: 'project', entityId: projectId, projectId, before, after: snapshot(project), ip: actor.ip })
+    })
+    return this.get(projectId)
+  }
+
+  /** Removes a project that holds nothing yet; one with equipment (and so, later, runs and reports) is refused. */
+  async remove(projectId: string, actor: Actor): Promise<void> {
+    await this.db.transaction(async (tx) => {
+      const project = await tx.getRepository(Project).findOne({ where: { id: projectId }, lock: { mode: 'pessimistic_write' } })
+      if (!project) throw AppError.notFound('Project')
+      const equipment = await tx.getRepository(Equipment).countBy({ projectId })
+      if (equipment > 0) {
+        throw new AppError('project_in_use', `Project ${project.code} has ${equipment} equipment item${equipment === 1 ? '' : 's'}; remove them first. Nothing was deleted.`, 409)
+      }
+      await tx.getRepository(ProjectMember).delete({ projectId })
+      await tx.getRepository(Project).delete({ id: projectId })
+      await recordAudit(tx, { actorId: actor.id, action: 'project.delete', entityType: 'project', entityId: projectId, before: snapshot(project), ip: actor.ip })
+    })
   }
 
   async members(projectId: string): Promise<ProjectMemberSummary[]> {
@@ -73,5 +137,28 @@ export class ProjectService {
       role: m.user.role,
       active: m.user.active,
     }))
+  }
+
+  async addMember(projectId: string, userId: string, actor: Actor): Promise<ProjectMemberSummary[]> {
+    await this.db.transaction(async (tx) => {
+      const project = await tx.getRepository(Project).findOneBy({ id: projectId })
+      if (!project) throw AppError.notFound('Project')
+      const user = await tx.getRepository(User).findOneBy({ id: userId, organizationId: project.organizationId })
+      if (!user) throw new AppError('not_found', 'Person was not found', 404, { userId: 'No such person in this firm' })
+      if (!user.active) throw new AppError('inactive_user', `${user.displayName} is deactivated; reactivate them first`, 409, { userId: 'This person is deactivated' })
+      if (await tx.getRepository(ProjectMember).existsBy({ projectId, userId })) return
+      await tx.getRepository(ProjectMember).insert({ projectId, userId })
+      await recordAudit(tx, { actorId: actor.id, action: 'project.member_add', entityType: 'project_member', entityId: userId, projectId, after: { userId, role: user.role }, ip: actor.ip })
+    })
+    return this.members(projectId)
+  }
+
+  async removeMember(projectId: string, userId: string, actor: Actor): Promise<ProjectMemberSummary[]> {
+    await this.db.transaction(async (tx) => {
+      const result = await tx.getRepository(ProjectMember).delete({ projectId, userId })
+      if (!result.affected) throw new AppError('not_found', 'That person is not on this project', 404)
+      await recordAudit(tx, { actorId: actor.id, action: 'project.member_remove', entityType: 'project_member', entityId: userId, projectId, before: { userId }, ip: actor.ip })
+    })
+    return this.members(projectId)
   }
 }

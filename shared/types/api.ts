@@ -39,7 +39,9 @@ export interface ProjectSummary {
   siteAddress: string
   timeZone: string
   unitSystem: 'IP' | 'SI'
+  distributionList: string[]
   memberCount: number
+  equipmentCount: number
 }
 
 export interface ProjectMemberSummary {
@@ -97,4 +99,35 @@ export interface TemplateSummary {
 export interface TemplateDetail extends TemplateSummary {
   /** Newest first. Non-admins see only published and retired versions. */
   versions: TemplateVersionSummary[]
+}
+
+export interface AttachmentSummary {
+  id: string
+  sha256: string
+  mimeType: string
+  sizeBytes: number
+  originalName: string
+  createdAt: string
+}
+
+export interface EquipmentSummary {
+  id: string
+  projectId: string
+  tag: string
+  kind: string
+  location: string
+  manufacturer: string
+  model: string
+  serialNumber: string
+  yearBuilt: number | null
+  refrigerant: string | null
+  hasNameplatePhoto: boolean
+  updatedAt: string
+}
+
+export interface EquipmentDetail extends EquipmentSummary {
+  /** Numeric values in canonical SI (`{ value, unit }`, unit from `canonicalUnit(kind)`), plus refrigerant and flags. */
+  designPoint: Record<string, unknown>
+  notes: string
+  nameplatePhoto: AttachmentSummary | null
 }

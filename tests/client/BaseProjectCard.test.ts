@@ -11,7 +11,9 @@ const project: ProjectSummary = {
   siteAddress: '1 Test Way',
   timeZone: 'America/Chicago',
   unitSystem: 'IP',
+  distributionList: [],
   memberCount: 4,
+  equipmentCount: 2,
 }
 
 const mountCard = (p: ProjectSummary, now: Date) =>

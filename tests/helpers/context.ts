@@ -1,3 +1,6 @@
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
 import { inject } from 'vitest'
 import request from 'supertest'
 import type { Express } from 'express'
@@ -18,15 +21,25 @@ export interface TestContext {
 
 /** A DataSource on the throwaway cluster and an app built on it, as a server process would. */
 export async function createTestContext(env: Record<string, string> = {}): Promise<TestContext> {
+  const storageDir = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-files-'))
   const config = loadConfig({
     NODE_ENV: 'test',
     DATABASE_URL: inject('databaseUrl'),
     CLIENT_DIST: '/nonexistent-startproof-client',
+    STORAGE_DIR: storageDir,
     ...env,
   })
   const db = createDataSource(config.DATABASE_URL, { poolSize: 4 })
   await db.initialize()
-  return { db, config, app: createApp({ config, db }), close: () => db.destroy() }
+  return {
+    db,
+    config,
+    app: createApp({ config, db }),
+    async close() {
+      await db.destroy()
+      fs.rmSync(storageDir, { recursive: true, force: true })
+    },
+  }
 }
 
 /** Empties every table the tests write to; each test file then inserts its own rows. */

@@ -68,3 +68,92 @@ describe('project membership', () => {
     expect(res.body.error.fields).toEqual({ 'params.projectId': 'projectId must be a UUID' })
   })
 })
+
+describe('project administration', () => {
+  const body = {
+    code: 'nw-plant',
+    name: 'North wing plant',
+    siteName: 'Test campus',
+    siteAddress: '2 Test Way',
+    timeZone: 'America/Denver',
+    unitSystem: 'SI',
+    distributionList: ['Owner@Client.test', 'closeout@contractor.test'],
+  }
+
+  it('when an admin creates a project, then it is saved normalised and the audit trail has it', async () => {
+    const s = await scenario()
+    const agent = await signedInAgent(ctx.app, s.admin)
+
+    const res = await agent.post('/api/projects').send(body)
+
+    expect(res.status).toBe(201)
+    expect(res.body.project).toMatchObject({ code: 'NW-PLANT', unitSystem: 'SI', distributionList: ['owner@client.test', 'closeout@contractor.test'], memberCount: 0, equipmentCount: 0 })
+    const [event] = await ctx.db.query(`SELECT action, after FROM audit_event WHERE action = 'project.create'`)
+    expect(event.after.code).toBe('NW-PLANT')
+  })
+
+  it.each(['tech', 'rep', 'contractor'] as const)('when a %s tries to create, edit, delete or change members, then 403', async (who) => {
+    const s = await scenario()
+    const agent = await signedInAgent(ctx.app, s[who])
+    expect((await agent.post('/api/projects').send(body)).status).toBe(403)
+    expect((await agent.patch(`/api/projects/${s.mine.id}`).send({ name: 'X' })).status).toBe(403)
+    expect((await agent.delete(`/api/projects/${s.mine.id}`)).status).toBe(403)
+    expect((await agent.put(`/api/projects/${s.mine.id}/members/${s.outsider.id}`)).status).toBe(403)
+    expect((await agent.delete(`/api/projects/${s.mine.id}/members/${s.tech.id}`)).status).toBe(403)
+  })
+
+  it('when the input is bad, then 400 names each field', async () => {
+    const s = await scenario()
+    const agent = await signedInAgent(ctx.app, s.admin)
+    const res = await agent.post('/api/projects').send({ ...body, code: '!', timeZone: 'Mars/Olympus', unitSystem: 'metric', distributionList: ['not-an-email'] })
+    expect(res.status).toBe(400)
+    expect(res.body.error.fields).toMatchObject({
+      code: 'Project code must be 2–20 letters, digits or hyphens, e.g. VXH-CUP',
+      timeZone: 'Time zone must be an IANA zone such as America/Chicago',
+      unitSystem: 'Unit system must be IP or SI',
+      'distributionList[0]': 'not-an-email is not a valid email address',
+    })
+  })
+
+  it('when the code is taken, then 409 names the field', async () => {
+    const s = await scenario()
+    const agent = await signedInAgent(ctx.app, s.admin)
+    const res = await agent.post('/api/projects').send({ ...body, code: s.mine.code })
+    expect(res.status).toBe(409)
+    expect(res.body.error.fields).toEqual({ code: 'This project code is already used' })
+  })
+
+  it('when an admin edits a project, then before and after are audited', async () => {
+    const s = await scenario()
+    const agent = await signedInAgent(ctx.app, s.admin)
+    const res = await agent.patch(`/api/projects/${s.mine.id}`).send({ unitSystem: 'SI', distributionList: ['a@b.test'] })
+    expect(res.status).toBe(200)
+    expect(res.body.project).toMatchObject({ unitSystem: 'SI', distributionList: ['a@b.test'] })
+    const [event] = await ctx.db.query(`SELECT before, after FROM audit_event WHERE action = 'project.update'`)
+    expect([event.before.unitSystem, event.after.unitSystem]).toEqual(['IP', 'SI'])
+  })
+
+  it('when an admin adds and removes members, then membership follows and the new member can see the project', async () => {
+    const s = await scenario()
+    const agent = await signedInAgent(ctx.app, s.admin)
+
+    const added = await agent.put(`/api/projects/${s.mine.id}/members/${s.outsider.id}`)
+    const outsider = await signedInAgent(ctx.app, s.outsider)
+    expect(added.status).toBe(200)
+    expect(added.body.members.map((m: { userId: string }) => m.userId)).toContain(s.outsider.id)
+    expect((await outsider.get(`/api/projects/${s.mine.id}`)).status).toBe(200)
+
+    const removed = await agent.delete(`/api/projects/${s.mine.id}/members/${s.outsider.id}`)
+    expect(removed.body.members.map((m: { userId: string }) => m.userId)).not.toContain(s.outsider.id)
+    expect((await outsider.get(`/api/projects/${s.mine.id}`)).status).toBe(404)
+    expect((await agent.delete(`/api/projects/${s.mine.id}/members/${s.outsider.id}`)).status).toBe(404)
+  })
+
+  it('when an empty project is deleted, then it is gone; a missing one answers 404', async () => {
+    const s = await scenario()
+    const agent = await signedInAgent(ctx.app, s.admin)
+    await agent.delete(`/api/projects/${s.notMine.id}`).expect(204)
+    expect((await agent.get(`/api/projects/${s.notMine.id}`)).status).toBe(404)
+    expect((await agent.delete(`/api/projects/${s.notMine.id}`)).status).toBe(404)
+  })
+})

@@ -1,0 +1,38 @@
+import { DESIGN_POINT_LABELS, DESIGN_POINT_QUANTITIES, designPointKeysFor, isDesignPointKey, type DesignPointKey, type EquipmentKind } from '@shared/schemas/design-point'
+import { displayUnit, formatQuantity, fromCanonical, type UnitSystem } from '@shared/units'
+
+export interface DesignPointRow {
+  key: DesignPointKey
+  label: string
+  unit: string
+  /** The value in the project's unit system, or null when the design point leaves it out. */
+  value: number | null
+  text: string
+}
+
+/** A stored (canonical SI) design point as rows in the project's unit system, in the kind's order. */
+export function designPointRows(designPoint: Record<string, unknown>, kind: EquipmentKind, system: UnitSystem): DesignPointRow[] {
+  return designPointKeysFor(kind).filter(isDesignPointKey).map((key) => {
+    const quantity = DESIGN_POINT_QUANTITIES[key]
+    const unit = displayUnit(quantity, system)
+    const stored = designPoint[key] as { value: number; unit: string } | undefined
+    const value = stored ? fromCanonical(stored.value, unit, quantity) : null
+    return { key, label: DESIGN_POINT_LABELS[key], unit, value, text: value === null ? '—' : formatQuantity(value, unit, quantity) }
+  })
+}
+
+/** Turns form values (numbers in the project's units) into the `{ value, unit }` entries the API expects. */
+export function designPointInput(values: Record<string, number | null | undefined>, kind: EquipmentKind, system: UnitSystem): Record<string, { value: number; unit: string }> {
+  const out: Record<string, { value: number; unit: string }> = {}
+  for (const key of designPointKeysFor(kind).filter(isDesignPointKey)) {
+    const v = values[key]
+    if (typeof v === 'number' && Number.isFinite(v)) out[key] = { value: v, unit: displayUnit(DESIGN_POINT_QUANTITIES[key], system) }
+  }
+  return out
+}
+
+/** Rounds a converted value for an input box without losing what matters. */
+export function roundForInput(value: number | null): number | null {
+  return value === null ? null : Number(value.toPrecision(6))
+}
+

@@ -1,0 +1,184 @@
+import { DataSource } from 'typeorm'
+import { fileTypeFromBuffer } from 'file-type'
+import type { AttachmentSummary, EquipmentDetail, EquipmentSummary, SessionUser } from '@shared/types/api'
+import type { EquipmentCreateInput, EquipmentUpdateInput } from '@shared/schemas/equipment'
+import { DESIGN_POINT_QUANTITIES, isDesignPointKey } from '@shared/schemas/design-point'
+import { canonicalUnit, toCanonical } from '@shared/units'
+import { AppError } from '../errors/app-error'
+import { Attachment, Equipment, Project } from '../entities'
+import type { StorageService } from '../storage/storage'
+import { recordAudit } from './audit.service'
+import type { ProjectService } from './project.service'
+import type { Actor } from './user.service'
+
+export const NAMEPLATE_IMAGE_TYPES: Record<string, string> = { 'image/jpeg': 'jpg', 'image/png': 'png', 'image/webp': 'webp' }
+
+/** The design point as stored: every numeric value converted to its canonical SI unit, other entries as given. */
+export function canonicalDesignPoint(entered: Record<string, unknown>): Record<string, unknown> {
+  const out: Record<string, unknown> = {}
+  for (const [key, value] of Object.entries(entered)) {
+    if (value === undefined) continue
+    if (isDesignPointKey(key) && value && typeof value === 'object' && 'value' in value && 'unit' in value) {
+      const kind = DESIGN_POINT_QUANTITIES[key]
+      const q = value as { value: number; unit: string }
+      out[key] = { value: toCanonical(q.value, q.unit, kind), unit: canonicalUnit(kind) }
+    } else {
+      out[key] = value
+    }
+  }
+  return out
+}
+
+function attachmentSummary(a: Attachment): AttachmentSummary {
+  return { id: a.id, sha256: a.sha256, mimeType: a.mimeType, sizeBytes: a.sizeBytes, originalName: a.originalName, createdAt: a.createdAt.toISOString() }
+}
+
+function summary(e: Equipment): EquipmentSummary {
+  return {
+    id: e.id,
+    projectId: e.projectId,
+    tag: e.tag,
+    kind: e.kind,
+    location: e.location,
+    manufacturer: e.manufacturer,
+    model: e.model,
+    serialNumber: e.serialNumber,
+    yearBuilt: e.yearBuilt,
+    refrigerant: e.refrigerant,
+    hasNameplatePhoto: e.nameplatePhotoId !== null,
+    updatedAt: e.updatedAt.toISOString(),
+  }
+}
+
+function snapshot(e: Equipment) {
+  const { id: _id, createdAt: _c, updatedAt: _u, project: _p, nameplatePhoto: _n, ...rest } = e
+  return rest as unknown as Record<string, unknown>
+}
+
+/** Equipment on projects: nameplate, design point (stored in SI) and the nameplate photo. */
+export class EquipmentService {
+  constructor(
+    private readonly db: DataSource,
+    private readonly projects: ProjectService,
+    private readonly storage: StorageService,
+  ) {}
+
+  /** The equipment item if `user` may see its project; 404 otherwise, so other projects' items stay invisible. */
+  async findAccessible(user: SessionUser, equipmentId: string): Promise<Equipment> {
+    const equipment = await this.db.getRepository(Equipment).findOne({ where: { id: equipmentId }, relations: { nameplatePhoto: true } })
+    if (!equipment || !(await this.projects.canAccess(user, equipment.projectId))) throw AppError.notFound('Equipment')
+    return equipment
+  }
+
+  async list(projectId: string): Promise<EquipmentSummary[]> {
+    const rows = await this.db.getRepository(Equipment).find({ where: { projectId }, order: { tag: 'ASC' } })
+    return rows.map(summary)
+  }
+
+  detail(e: Equipment): EquipmentDetail {
+    return { ...summary(e), designPoint: e.designPoint, notes: e.notes, nameplatePhoto: e.nameplatePhoto ? attachmentSummary(e.nameplatePhoto) : null }
+  }
+
+  private async assertTagFree(projectId: string, tag: string, exceptId?: string) {
+    const existing = await this.db.getRepository(Equipment).findOneBy({ projectId, tag })
+    if (existing && existing.id !== exceptId) {
+      throw new AppError('tag_taken', `Tag ${tag} is already used on this project`, 409, { tag: 'This tag is already used on this project' })
+    }
+  }
+
+  async create(projectId: string, input: EquipmentCreateInput, actor: Actor): Promise<EquipmentDetail> {
+    await this.assertTagFree(projectId, input.tag)
+    const designPoint = canonicalDesignPoint(input.designPoint as Record<string, unknown>)
+    const saved = await this.db.transaction(async (tx) => {
+      const equipment = await tx.getRepository(Equipment).save({
+        projectId,
+        tag: input.tag,
+        kind: input.kind,
+        location: input.location ?? '',
+        manufacturer: input.manufacturer,
+        model: input.model,
+        serialNumber: input.serialNumber,
+        yearBuilt: input.yearBuilt ?? null,
+        notes: input.notes ?? '',
+        refrigerant: typeof designPoint.refrigerant === 'string' ? designPoint.refrigerant : null,
+        designPoint,
+        nameplatePhotoId: null,
+      })
+      await recordAudit(tx, { actorId: actor.id, action: 'equipment.create', entityType: 'equipment', entityId: equipment.id, projectId, after: snapshot(equipment), ip: actor.ip })
+      return equipment
+    })
+    return this.detail({ ...saved, nameplatePhoto: null } as Equipment)
+  }
+
+  async update(equipment: Equipment, input: EquipmentUpdateInput, actor: Actor): Promise<EquipmentDetail> {
+    if (input.tag !== undefined) await this.assertTagFree(equipment.projectId, input.tag, equipment.id)
+    await this.db.transaction(async (tx) => {
+      const before = snapshot(equipment)
+      const { designPoint, ...plain } = input
+      for (const [key, value] of Object.entries(plain)) {
+        if (value !== undefined) (equipment as unknown as Record<string, unknown>)[key] = value
+      }
+      if (designPoint !== undefined) {
+        equipment.designPoint = canonicalDesignPoint(designPoint as Record<string, unknown>)
+        equipment.refrigerant = typeof equipment.designPoint.refrigerant === 'string' ? equipment.designPoint.refrigerant : null
+      }
+      const { nameplatePhoto: _photo, project: _project, ...columns } = equipment
+      await tx.getRepository(Equipment).save(columns)
+      await recordAudit(tx, { actorId: actor.id, action: 'equipment.update', entityType: 'equipment', entityId: equipment.id, projectId: equipment.projectId, before, after: snapshot(equipment), ip: actor.ip })
+    })
+    const fresh = await this.db.getRepository(Equipment).findOneOrFail({ where: { id: equipment.id }, relations: { nameplatePhoto: true } })
+    return this.detail(fresh)
+  }
+
+  /** Removes an equipment item; one that runs refer to is refused by the database's foreign keys (409). */
+  async remove(equipment: Equipment, actor: Actor): Promise<void> {
+    await this.db.transaction(async (tx) => {
+      await tx.getRepository(Equipment).delete({ id: equipment.id })
+      await recordAudit(tx, { actorId: actor.id, action: 'equipment.delete', entityType: 'equipment', entityId: equipment.id, projectId: equipment.projectId, before: snapshot(equipment), ip: actor.ip })
+    })
+  }
+
+  /** Stores a nameplate photo after checking its bytes really are an image of an accepted type. */
+  async setNameplatePhoto(equipment: Equipment, file: { buffer: Buffer; originalname: string }, actor: Actor): Promise<EquipmentDetail> {
+    const detected = await fileTypeFromBuffer(file.buffer)
+    const extension = detected ? NAMEPLATE_IMAGE_TYPES[detected.mime] : undefined
+    if (!detected || !extension) {
+      throw new AppError('unsupported_file', 'The nameplate photo must be a JPEG, PNG or WebP image', 415, { photo: 'Not a JPEG, PNG or WebP image' })
+    }
+    const stored = await this.storage.save(file.buffer, 'nameplates', extension)
+    const project = await this.db.getRepository(Project).findOneByOrFail({ id: equipment.projectId })
+    await this.db.transaction(async (tx) => {
+      const attachment = await tx.getRepository(Attachment).save({
+        organizationId: project.organizationId,
+        storageKey: stored.key,
+        sha256: stored.sha256,
+        mimeType: detected.mime,
+        sizeBytes: stored.size,
+        originalName: file.originalname.slice(0, 200) || `nameplate.${extension}`,
+        uploadedBy: actor.id,
+      })
+      const before = { nameplatePhotoId: equipment.nameplatePhotoId }
+      await tx.getRepository(Equipment).update(equipment.id, { nameplatePhotoId: attachment.id })
+      await recordAudit(tx, {
+        actorId: actor.id,
+        action: 'equipment.nameplate_photo',
+        entityType: 'equipment',
+        entityId: equipment.id,
+        projectId: equipment.projectId,
+        before,
+        after: { nameplatePhotoId: attachment.id, sha256: stored.sha256, sizeBytes: stored.size },
+        ip: actor.ip,
+      })
+    })
+    const fresh = await this.db.getRepository(Equipment).findOneOrFail({ where: { id: equipment.id }, relations: { nameplatePhoto: true } })
+    return this.detail(fresh)
+  }
+
+  /** The photo's bytes, checked against the SHA-256 recorded at upload. */
+  async nameplatePhoto(equipment: Equipment): Promise<{ data: Buffer; attachment: Attachment }> {
+    const attachment = equipment.nameplatePhoto
+    if (!attachment) throw AppError.notFound('Nameplate photo')
+    const data = await this.storage.read(attachment.storageKey, attachment.sha256)
+    return { data, attachment }
+  }
+}

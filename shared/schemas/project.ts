@@ -1,0 +1,59 @@
+import * as yup from 'yup'
+
+/** Whether `zone` is an IANA time zone this runtime knows (e.g. `America/Chicago`). */
+export function isTimeZone(zone: unknown): boolean {
+  if (typeof zone !== 'string' || !zone) return false
+  try {
+    new Intl.DateTimeFormat('en-US', { timeZone: zone })
+    return true
+  } catch {
+    return false
+  }
+}
+
+const code = yup
+  .string()
+  .trim()
+  .uppercase()
+  .required('Project code is required')
+  .matches(/^[A-Z0-9][A-Z0-9-]{1,19}$/, 'Project code must be 2–20 letters, digits or hyphens, e.g. VXH-CUP')
+
+const fields = {
+  code,
+  name: yup.string().trim().required('Name is required').max(200, 'Name must be at most 200 characters'),
+  siteName: yup.string().trim().required('Site name is required').max(200, 'Site name must be at most 200 characters'),
+  siteAddress: yup.string().trim().required('Site address is required').max(400, 'Site address must be at most 400 characters'),
+  timeZone: yup
+    .string()
+    .trim()
+    .required('Time zone is required')
+    .test('iana', 'Time zone must be an IANA zone such as America/Chicago', (v) => v === undefined || isTimeZone(v)),
+  unitSystem: yup
+    .mixed<'IP' | 'SI'>()
+    .required('Unit system is required')
+    .oneOf(['IP', 'SI'], 'Unit system must be IP or SI'),
+  distributionList: yup
+    .array(yup.string().trim().lowercase().required().email('${value} is not a valid email address'))
+    .max(50, 'The distribution list takes at most 50 addresses')
+    .default([])
+    .test('unique', 'The distribution list repeats an address', (list) => !list || new Set(list).size === list.length),
+}
+
+/** `POST /api/projects`. */
+export const projectCreateSchema = yup.object(fields).noUnknown()
+export type ProjectCreateInput = yup.InferType<typeof projectCreateSchema>
+
+/** `PATCH /api/projects/:projectId`: any of the fields, at least one. */
+export const projectUpdateSchema = yup
+  .object({
+    code: code.optional().default(undefined),
+    name: fields.name.optional().default(undefined),
+    siteName: fields.siteName.optional().default(undefined),
+    siteAddress: fields.siteAddress.optional().default(undefined),
+    timeZone: fields.timeZone.optional().default(undefined),
+    unitSystem: yup.mixed<'IP' | 'SI'>().oneOf(['IP', 'SI'], 'Unit system must be IP or SI').optional(),
+    distributionList: fields.distributionList.optional().default(undefined),
+  })
+  .noUnknown()
+  .test('not-empty', 'Give at least one field to change', (v) => v != null && Object.values(v).some((x) => x !== undefined))
+export type ProjectUpdateInput = yup.InferType<typeof projectUpdateSchema>
