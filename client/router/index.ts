@@ -9,6 +9,10 @@ export type RouteName =
   | 'project'
   | 'equipment'
   | 'people'
+  | 'templates'
+  | 'template'
+  | 'template-editor'
+  | 'template-diff'
   | 'account'
   | 'not-found'
 
@@ -30,6 +34,22 @@ const routes: NamedRoute[] = [
   { path: '/projects', name: 'projects', component: () => import('@/views/ProjectsView.vue'), meta: { title: 'Projects' } },
   { path: '/projects/:projectId', name: 'project', component: () => import('@/views/ProjectView.vue'), meta: { title: 'Project' }, props: true },
   { path: '/equipment/:equipmentId', name: 'equipment', component: () => import('@/views/EquipmentView.vue'), meta: { title: 'Equipment' }, props: true },
+  { path: '/templates', name: 'templates', component: () => import('@/views/TemplatesView.vue'), meta: { roles: ['admin'], title: 'Templates' } },
+  { path: '/templates/:templateId', name: 'template', component: () => import('@/views/TemplateView.vue'), meta: { roles: ['admin'], title: 'Template' }, props: true },
+  {
+    path: '/templates/:templateId/versions/:number/edit',
+    name: 'template-editor',
+    component: () => import('@/views/TemplateEditorView.vue'),
+    meta: { roles: ['admin'], title: 'Template editor' },
+    props: true,
+  },
+  {
+    path: '/templates/:templateId/diff',
+    name: 'template-diff',
+    component: () => import('@/views/TemplateDiffView.vue'),
+    meta: { roles: ['admin'], title: 'Compare versions' },
+    props: (route) => ({ templateId: route.params.templateId, from: route.query.from, to: route.query.to }),
+  },
   { path: '/people', name: 'people', component: () => import('@/views/PeopleView.vue'), meta: { roles: ['admin'], title: 'People' } },
   { path: '/account', name: 'account', component: () => import('@/views/AccountView.vue'), meta: { title: 'Account' } },
   { path: '/:pathMatch(.*)*', name: 'not-found', component: () => import('@/views/NotFoundView.vue'), meta: { title: 'Not found' } },
