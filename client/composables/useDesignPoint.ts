@@ -10,11 +10,23 @@ export interface DesignPointRow {
   text: string
 }
 
+// Water-side pressure drops and pump head are read in feet of water in I-P practice, not psid.
+const PREFERRED_UNITS: Partial<Record<DesignPointKey, Record<UnitSystem, string>>> = {
+  pumpDesignHead: { IP: 'ftH2O', SI: 'kPad' },
+  evaporatorPressureDrop: { IP: 'ftH2O', SI: 'kPad' },
+  condenserPressureDrop: { IP: 'ftH2O', SI: 'kPad' },
+}
+
+/** The unit a design-point value is shown and entered in for a unit system. */
+export function designPointUnit(key: DesignPointKey, system: UnitSystem): string {
+  return PREFERRED_UNITS[key]?.[system] ?? displayUnit(DESIGN_POINT_QUANTITIES[key], system)
+}
+
 /** A stored (canonical SI) design point as rows in the project's unit system, in the kind's order. */
 export function designPointRows(designPoint: Record<string, unknown>, kind: EquipmentKind, system: UnitSystem): DesignPointRow[] {
   return designPointKeysFor(kind).filter(isDesignPointKey).map((key) => {
     const quantity = DESIGN_POINT_QUANTITIES[key]
-    const unit = displayUnit(quantity, system)
+    const unit = designPointUnit(key, system)
     const stored = designPoint[key] as { value: number; unit: string } | undefined
     const value = stored ? fromCanonical(stored.value, unit, quantity) : null
     return { key, label: DESIGN_POINT_LABELS[key], unit, value, text: value === null ? '—' : formatQuantity(value, unit, quantity) }
@@ -26,7 +38,7 @@ export function designPointInput(values: Record<string, number | null | undefine
   const out: Record<string, { value: number; unit: string }> = {}
   for (const key of designPointKeysFor(kind).filter(isDesignPointKey)) {
     const v = values[key]
-    if (typeof v === 'number' && Number.isFinite(v)) out[key] = { value: v, unit: displayUnit(DESIGN_POINT_QUANTITIES[key], system) }
+    if (typeof v === 'number' && Number.isFinite(v)) out[key] = { value: v, unit: designPointUnit(key, system) }
   }
   return out
 }

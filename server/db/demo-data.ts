@@ -1,7 +1,9 @@
 import type { DataSource } from 'typeorm'
 import type { Role } from '@shared/types/roles'
+import { designPointSchemaFor, type EquipmentKind } from '@shared/schemas/design-point'
 import { hashPassword } from '../auth/passwords'
-import { Organization, Project, ProjectMember, User } from '../entities'
+import { Equipment, Organization, Project, ProjectMember, User } from '../entities'
+import { canonicalDesignPoint } from '../services/equipment.service'
 
 /**
  * The demo scenario (every name invented): a commissioning firm starting chillers on two projects,
@@ -18,6 +20,60 @@ export const DEMO_PEOPLE: { email: string; displayName: string; role: Role; pass
   { email: 'theo.brannick@pellworthmech.test', displayName: 'Theo Brannick', role: 'contractor', password: 'closeout-demo-2026' },
 ]
 
+function chiller(tag: string, location: string, serialNumber: string) {
+  // 500 tons at the AHRI 550/590 rating conditions: 54 → 44 °F at 2.4 gpm/ton, 85 → 94.3 °F at 3.0 gpm/ton;
+  // 0.576 kW/ton × 500 tons = 288 kW input.
+  return {
+    tag,
+    kind: 'centrifugal_chiller',
+    location,
+    manufacturer: 'Halvard Thermal',
+    model: 'HT-C500',
+    serialNumber,
+    yearBuilt: 2024,
+    designPoint: {
+      refrigerant: 'R-134a',
+      capacity: { value: 500, unit: 'TR' },
+      evaporatorEnteringWaterTemp: { value: 54, unit: 'degF' },
+      evaporatorLeavingWaterTemp: { value: 44, unit: 'degF' },
+      evaporatorWaterFlow: { value: 1200, unit: 'gpm' },
+      evaporatorPressureDrop: { value: 18.5, unit: 'ftH2O' },
+      condenserEnteringWaterTemp: { value: 85, unit: 'degF' },
+      condenserLeavingWaterTemp: { value: 94.3, unit: 'degF' },
+      condenserWaterFlow: { value: 1500, unit: 'gpm' },
+      condenserPressureDrop: { value: 16.2, unit: 'ftH2O' },
+      designKwPerTon: { value: 0.576, unit: 'kWPerTon' },
+      inputPower: { value: 288, unit: 'kW' },
+      voltage: { value: 460, unit: 'V' },
+      frequency: { value: 60, unit: 'Hz' },
+      fullLoadAmps: { value: 420, unit: 'A' },
+      oilPressureSetpoint: { value: 35, unit: 'psid' },
+    },
+  }
+}
+
+function pump(tag: string, service: string, location: string, serialNumber: string, gpm: number, headFt: number, hp: number, fla: number) {
+  return {
+    tag,
+    kind: 'pump',
+    location,
+    manufacturer: 'Quarrington Pump Co.',
+    model: 'QP-8x6-13',
+    serialNumber,
+    yearBuilt: 2025,
+    designPoint: {
+      pumpService: service,
+      pumpDesignFlow: { value: gpm, unit: 'gpm' },
+      pumpDesignHead: { value: headFt, unit: 'ftH2O' },
+      motorRatedPower: { value: hp, unit: 'hp' },
+      motorRatedSpeed: { value: 1780, unit: 'rpm' },
+      voltage: { value: 460, unit: 'V' },
+      frequency: { value: 60, unit: 'Hz' },
+      fullLoadAmps: { value: fla, unit: 'A' },
+    },
+  }
+}
+
 const DEMO_PROJECTS = [
   {
     code: 'VXH-CUP',
@@ -26,7 +82,14 @@ const DEMO_PROJECTS = [
     siteAddress: '1400 Fernhollow Road, Marrowick, IL 60999',
     timeZone: 'America/Chicago',
     unitSystem: 'IP' as const,
+    distributionList: ['facilities.records@vexleyhealth.test', 'closeout@pellworthmech.test'],
     members: ['rafe.okafor@tallowmere.test', 'ines.marlow@tallowmere.test', 'maren.solvik@vexleyhealth.test', 'theo.brannick@pellworthmech.test'],
+    equipment: [
+      chiller('CH-1', 'Central utility plant, chiller bay east', 'HX-24-0311'),
+      chiller('CH-2', 'Central utility plant, chiller bay west', 'HX-24-0312'),
+      pump('CHWP-1', 'chilled_water', 'Primary chilled-water pump 1', 'QP-25-7781', 1200, 85, 40, 48),
+      pump('CWP-1', 'condenser_water', 'Condenser-water pump 1', 'QP-25-7790', 1500, 70, 40, 47),
+    ],
   },
   {
     code: 'CRP-B4',
@@ -35,7 +98,39 @@ const DEMO_PROJECTS = [
     siteAddress: '88 Quillon Avenue, Harwick Bay, ON K0X 9Z9',
     timeZone: 'America/Toronto',
     unitSystem: 'SI' as const,
+    distributionList: ['plant.operations@corranpoly.test'],
     members: ['ines.marlow@tallowmere.test', 'priya.halden@corranpoly.test', 'theo.brannick@pellworthmech.test'],
+    equipment: [
+      {
+        tag: 'CH-B4-1',
+        kind: 'centrifugal_chiller',
+        location: 'Building 4 plant room, level 0',
+        manufacturer: 'Halvard Thermal',
+        model: 'HT-CZ1400',
+        serialNumber: 'HT-25-04418',
+        yearBuilt: 2025,
+        // 1400 kW at 12 → 7 °C: 1400 / (4.19 kJ/kg·K × 5 K) ≈ 66.8 kg/s ≈ 67 L/s; condenser carries 1400 + 221 kW over
+        // 29.5 → 35 °C: 1621 / (4.18 × 5.5) ≈ 70.5 L/s. 0.158 kW/kW is COP 6.33.
+        designPoint: {
+          refrigerant: 'R-1233zd(E)',
+          capacity: { value: 1400, unit: 'kW' },
+          evaporatorEnteringWaterTemp: { value: 12, unit: 'degC' },
+          evaporatorLeavingWaterTemp: { value: 7, unit: 'degC' },
+          evaporatorWaterFlow: { value: 67, unit: 'Lps' },
+          evaporatorPressureDrop: { value: 62, unit: 'kPad' },
+          condenserEnteringWaterTemp: { value: 29.5, unit: 'degC' },
+          condenserLeavingWaterTemp: { value: 35, unit: 'degC' },
+          condenserWaterFlow: { value: 70.5, unit: 'Lps' },
+          condenserPressureDrop: { value: 58, unit: 'kPad' },
+          designKwPerTon: { value: 0.158, unit: 'kWPerKW' },
+          inputPower: { value: 221, unit: 'kW' },
+          voltage: { value: 600, unit: 'V' },
+          frequency: { value: 60, unit: 'Hz' },
+          fullLoadAmps: { value: 238, unit: 'A' },
+          oilPressureSetpoint: { value: 170, unit: 'kPad' },
+        },
+      },
+    ],
   },
 ]
 
@@ -61,9 +156,22 @@ export async function loadDemoData(db: DataSource): Promise<void> {
       })),
     )
     const byEmail = new Map(users.map((u) => [u.email, u]))
-    for (const { members, ...fields } of DEMO_PROJECTS) {
+    for (const { members, equipment, ...fields } of DEMO_PROJECTS) {
       const project = await tx.getRepository(Project).save({ ...fields, organizationId: org.id })
       await tx.getRepository(ProjectMember).save(members.map((email) => ({ projectId: project.id, userId: byEmail.get(email)!.id })))
+      for (const { designPoint, ...item } of equipment) {
+        // Demo data goes through the same schema as the API, so it can never hold a design point the API would refuse.
+        const checked = await designPointSchemaFor(item.kind as EquipmentKind).validate(designPoint, { abortEarly: false })
+        const stored = canonicalDesignPoint(checked as Record<string, unknown>)
+        await tx.getRepository(Equipment).save({
+          ...item,
+          projectId: project.id,
+          notes: '',
+          refrigerant: typeof stored.refrigerant === 'string' ? stored.refrigerant : null,
+          designPoint: stored,
+          nameplatePhotoId: null,
+        })
+      }
     }
   })
 }
