@@ -37,6 +37,50 @@ try {
     }
     await context.close()
   }
+  const shootProject = async () => {
+    const context = await browser.createBrowserContext()
+    const page = await context.newPage()
+    await page.setViewport({ width, height })
+    const admin = DEMO_PEOPLE.find((p) => p.role === 'admin')!
+    await page.goto(`${base}/sign-in`, { waitUntil: 'networkidle0' })
+    await page.type('input[data-test=email]', admin.email)
+    await page.type('input[data-test=password]', admin.password)
+    await Promise.all([page.waitForNavigation({ waitUntil: 'networkidle0' }).catch(() => undefined), page.click('[data-test=sign-in]')])
+    const ids = await page.evaluate(async () => {
+      const projects = (await (await fetch('/api/projects')).json()).projects as { id: string; code: string }[]
+      const project = projects.find((p) => p.code === 'VXH-CUP') ?? projects[0]
+      const equipment = (await (await fetch(`/api/projects/${project.id}/equipment`)).json()).equipment as { id: string }[]
+      return { project: project.id, equipment: equipment[0]?.id }
+    })
+    await page.goto(`${base}/projects/${ids.project}`, { waitUntil: 'networkidle0' })
+    await page.screenshot({ path: path.join(out, 'admin-project.png'), fullPage: true })
+    if (ids.equipment) {
+      // A nameplate photo for the picture: an invented plate drawn by the browser itself.
+      const plate = await browser.newPage()
+      await plate.setViewport({ width: 640, height: 400 })
+      await plate.setContent(`<body style="margin:0;background:#8a8f94;display:grid;place-items:center;height:100vh;font-family:sans-serif">
+        <div style="background:#d9dcdf;border:6px solid #555;border-radius:8px;padding:18px 26px;width:520px;color:#222">
+        <div style="font-weight:700;font-size:22px;letter-spacing:2px">HALVARD THERMAL</div><hr>
+        <div>MODEL HT-C500 &nbsp; SERIAL HX-24-0311</div><div>REFRIGERANT R-134a &nbsp; CHARGE 1450 lb</div>
+        <div>460 V 3 PH 60 Hz &nbsp; RLA 420 A &nbsp; LRA 2650 A</div><div>DESIGN WORKING PRESSURE 185 psig</div><div>YEAR 2024</div></div></body>`)
+      const png = await plate.screenshot({ type: 'png' })
+      await plate.close()
+      await page.evaluate(async (id: string, b64: string) => {
+        const bytes = Uint8Array.from(atob(b64), (c) => c.charCodeAt(0))
+        const form = new FormData()
+        form.append('photo', new File([bytes], 'ch-1-nameplate.png', { type: 'image/png' }))
+        await fetch(`/api/equipment/${id}/nameplate-photo`, { method: 'PUT', body: form })
+      }, ids.equipment, Buffer.from(png).toString('base64'))
+      await page.goto(`${base}/equipment/${ids.equipment}`, { waitUntil: 'networkidle0' })
+      await page.screenshot({ path: path.join(out, 'admin-equipment.png'), fullPage: true })
+      await page.click('[data-test=edit-equipment]')
+      await page.waitForSelector('[data-test=save-equipment]', { visible: true })
+      await new Promise((r) => setTimeout(r, 400))
+      await page.screenshot({ path: path.join(out, 'admin-equipment-edit.png') })
+    }
+    await context.close()
+  }
+  await shootProject()
   await shoot('sign-in')
   await shoot('admin', 'dana.whitlock@tallowmere.test', ['/people', '/account'])
   await shoot('technician', 'rafe.okafor@tallowmere.test')

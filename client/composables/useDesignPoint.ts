@@ -1,10 +1,12 @@
 import { DESIGN_POINT_LABELS, DESIGN_POINT_QUANTITIES, designPointKeysFor, isDesignPointKey, type DesignPointKey, type EquipmentKind } from '@shared/schemas/design-point'
-import { displayUnit, formatQuantity, fromCanonical, type UnitSystem } from '@shared/units'
+import { displayUnit, formatQuantity, fromCanonical, unitLabel, type UnitSystem } from '@shared/units'
 
 export interface DesignPointRow {
   key: DesignPointKey
   label: string
   unit: string
+  /** How the unit is written for people (°F, tons, ft of water). */
+  unitLabel: string
   /** The value in the project's unit system, or null when the design point leaves it out. */
   value: number | null
   text: string
@@ -29,7 +31,7 @@ export function designPointRows(designPoint: Record<string, unknown>, kind: Equi
     const unit = designPointUnit(key, system)
     const stored = designPoint[key] as { value: number; unit: string } | undefined
     const value = stored ? fromCanonical(stored.value, unit, quantity) : null
-    return { key, label: DESIGN_POINT_LABELS[key], unit, value, text: value === null ? '—' : formatQuantity(value, unit, quantity) }
+    return { key, label: DESIGN_POINT_LABELS[key], unit, unitLabel: unitLabel(quantity, unit), value, text: value === null ? '—' : formatQuantity(value, unit, quantity) }
   })
 }
 

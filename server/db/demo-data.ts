@@ -48,6 +48,9 @@ function chiller(tag: string, location: string, serialNumber: string) {
       frequency: { value: 60, unit: 'Hz' },
       fullLoadAmps: { value: 420, unit: 'A' },
       oilPressureSetpoint: { value: 35, unit: 'psid' },
+      // Plain water without freeze protection: the machine's allowed leaving setpoint band (common practice 38–55 °F).
+      chilledWaterSetpointMin: { value: 40, unit: 'degF' },
+      chilledWaterSetpointMax: { value: 55, unit: 'degF' },
     },
   }
 }
@@ -128,6 +131,8 @@ const DEMO_PROJECTS = [
           frequency: { value: 60, unit: 'Hz' },
           fullLoadAmps: { value: 238, unit: 'A' },
           oilPressureSetpoint: { value: 170, unit: 'kPad' },
+          chilledWaterSetpointMin: { value: 5, unit: 'degC' },
+          chilledWaterSetpointMax: { value: 12, unit: 'degC' },
         },
       },
     ],
