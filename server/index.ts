@@ -2,6 +2,7 @@ import type { Server } from 'node:http'
 import { ConfigError, loadConfig, type Config } from './config'
 import { createApp } from './app'
 import { createDataSource } from './db/data-source'
+import { ensureStarterLibrary } from './services/starter-library'
 
 export interface RunningServer {
   server: Server
@@ -20,6 +21,8 @@ export async function startServer(config: Config): Promise<RunningServer> {
     throw new Error(`Cannot connect to the database at DATABASE_URL=${url.toString()}: ${(err as Error).message}`)
   }
   await db.runMigrations({ transaction: 'each' })
+  const added = await ensureStarterLibrary(db)
+  if (added) console.log(`Added ${added} starter template${added === 1 ? '' : 's'} to the library`)
   const app = createApp({ config, db })
   const server = await new Promise<Server>((resolve, reject) => {
     const s = app.listen(config.PORT, config.HOST, () => resolve(s))

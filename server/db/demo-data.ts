@@ -4,6 +4,7 @@ import { designPointSchemaFor, type EquipmentKind } from '@shared/schemas/design
 import { hashPassword } from '../auth/passwords'
 import { Equipment, Organization, Project, ProjectMember, User } from '../entities'
 import { canonicalDesignPoint } from '../services/equipment.service'
+import { installStarterLibrary } from '../services/starter-library'
 
 /**
  * The demo scenario (every name invented): a commissioning firm starting chillers on two projects,
@@ -161,6 +162,7 @@ export async function loadDemoData(db: DataSource): Promise<void> {
       })),
     )
     const byEmail = new Map(users.map((u) => [u.email, u]))
+    await installStarterLibrary(tx, org.id, users.find((u) => u.role === 'admin')!.id)
     for (const { members, equipment, ...fields } of DEMO_PROJECTS) {
       const project = await tx.getRepository(Project).save({ ...fields, organizationId: org.id })
       await tx.getRepository(ProjectMember).save(members.map((email) => ({ projectId: project.id, userId: byEmail.get(email)!.id })))

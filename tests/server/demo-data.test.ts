@@ -33,3 +33,34 @@ describe('demo data', () => {
     expect(emails.every((e) => e.endsWith('.test'))).toBe(true)
   })
 })
+
+describe('starter library', () => {
+  it('when the demo loads, then both starter templates are published as version 1 and a technician can read them', async () => {
+    const tech = DEMO_PEOPLE.find((p) => p.role === 'technician')!
+    const agent = request.agent(ctx.app)
+    await agent.post('/api/session').send({ email: tech.email, password: tech.password }).expect(200)
+
+    const list = await agent.get('/api/templates')
+    expect(list.body.templates.map((t: { key: string }) => t.key).sort()).toEqual(['centrifugal-chiller-startup', 'pump-startup'])
+    for (const t of list.body.templates) {
+      expect(t.latestPublishedNumber).toBe(1)
+      const v1 = await agent.get(`/api/templates/${t.id}/versions/1`)
+      expect(v1.body.version).toMatchObject({ status: 'published', publishedByName: 'Dana Whitlock' })
+      expect(v1.body.version.fieldCount).toBeGreaterThan(5)
+    }
+  })
+
+  it('when a new organisation exists at start, then it gets the starter library, once', async () => {
+    const { ensureStarterLibrary } = await import('../../server/services/starter-library')
+    const { makeOrganization } = await import('../helpers/context')
+    const org = await makeOrganization(ctx.db, 'A newly added firm')
+
+    const first = await ensureStarterLibrary(ctx.db)
+    const second = await ensureStarterLibrary(ctx.db)
+
+    expect(first).toBe(2)
+    expect(second).toBe(0)
+    const [{ n }] = await ctx.db.query(`SELECT count(*)::int AS n FROM checklist_template WHERE organization_id = $1`, [org.id])
+    expect(n).toBe(2)
+  })
+})
