@@ -57,6 +57,12 @@ export function issuesUnder(issues: readonly ValidationIssue[], prefix: string):
   return issues.filter((i) => i.path === prefix || i.path.startsWith(prefix + '.') || i.path.startsWith(prefix + '['))
 }
 
+/** The message without the path it starts with, for showing beside the input it belongs to: "Must not be below min". */
+export function readableMessage(issue: ValidationIssue): string {
+  const rest = issue.path && issue.message.startsWith(issue.path) ? issue.message.slice(issue.path.length).trim() : issue.message
+  return rest ? rest[0].toUpperCase() + rest.slice(1) : issue.message
+}
+
 /** The selection that shows the item an issue belongs to. */
 export function selectionForIssue(path: string): EditorSelection {
   const loc = parseIssuePath(path)
@@ -363,7 +369,8 @@ export function useTemplateWorkingCopy(
   })
   /** The first message for exactly this path, for the form item that edits it. */
   function issueAt(path: string): string | undefined {
-    return allIssues.value.find((i) => i.path === path)?.message
+    const issue = allIssues.value.find((i) => i.path === path)
+    return issue ? readableMessage(issue) : undefined
   }
   function issueCountUnder(prefix: string): number {
     return issuesUnder(allIssues.value, prefix).length
