@@ -38,7 +38,7 @@ export default defineConfig({
           name: 'server',
           include: ['tests/server/**/*.test.ts', 'tests/e2e/**/*.test.ts'],
           environment: 'node',
-          globalSetup: ['tests/setup/postgres.ts'],
+          globalSetup: ['tests/setup/postgres.ts', 'tests/setup/client.ts'],
           setupFiles: ['tests/setup/server-env.ts'],
           fileParallelism: false,
           testTimeout: 20000,

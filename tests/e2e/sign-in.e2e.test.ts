@@ -1,65 +1,19 @@
-import { spawnSync } from 'node:child_process'
-import fs from 'node:fs'
-import os from 'node:os'
-import path from 'node:path'
-import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { demoPerson as person, freshPage as newPage, signIn as signInAs, startProduct, type RunningProduct } from '../helpers/product'
 import type { Page } from 'puppeteer-core'
-import { loadConfig } from '../../server/config'
-import { databaseUrl, ensureDatabase, freePort } from '../../server/db/cluster'
-import { createDataSource } from '../../server/db/data-source'
-import { DEMO_PEOPLE, loadDemoData } from '../../server/db/demo-data'
-import { startServer, type RunningServer } from '../../server/index'
-import { launchChromium } from '../helpers/browser'
 
-// The real product: the client built by Vite, the server on a loopback port, the demo data, Debian's Chromium.
-let server: RunningServer
-let browser: Awaited<ReturnType<typeof launchChromium>>
+let product: RunningProduct
 let base: string
-let distDir: string
-
-const person = (role: string) => DEMO_PEOPLE.find((p) => p.role === role)!
 
 beforeAll(async () => {
-  const pg = inject('pg')
-  ensureDatabase(pg.bin, pg.port, 'startproof_e2e')
-  const url = databaseUrl(pg.port, 'startproof_e2e')
-  const db = createDataSource(url, { poolSize: 2 })
-  await db.initialize()
-  await db.runMigrations({ transaction: 'each' })
-  await db.query(`TRUNCATE project_member, project, app_user, organization, session, rate_limit CASCADE`)
-  await db.query(`TRUNCATE audit_event`)
-  await loadDemoData(db)
-  await db.destroy()
-
-  distDir = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-e2e-client-'))
-  const build = spawnSync('node_modules/.bin/vite', ['build', '--outDir', distDir, '--emptyOutDir', '--logLevel', 'error'], { encoding: 'utf8' })
-  if (build.status !== 0) throw new Error(`vite build failed: ${build.stderr}`)
-
-  const port = await freePort()
-  server = await startServer(loadConfig({ NODE_ENV: 'test', DATABASE_URL: url, PORT: String(port), HOST: '127.0.0.1', CLIENT_DIST: distDir }))
-  base = `http://127.0.0.1:${port}`
-  browser = await launchChromium()
+  product = await startProduct('startproof_e2e_sign_in')
+  base = product.base
 }, 120_000)
 
-afterAll(async () => {
-  await browser?.cleanup()
-  await server?.close()
-  if (distDir) fs.rmSync(distDir, { recursive: true, force: true })
-})
+afterAll(() => product?.stop())
 
-async function freshPage(): Promise<Page> {
-  const context = await browser.createBrowserContext()
-  const page = await context.newPage()
-  await page.setViewport({ width: 1180, height: 820 })
-  return page
-}
-
-async function signIn(page: Page, email: string, password: string) {
-  await page.goto(`${base}/sign-in`, { waitUntil: 'networkidle0' })
-  await page.type('input[data-test=email]', email)
-  await page.type('input[data-test=password]', password)
-  await page.click('[data-test=sign-in]')
-}
+const freshPage = () => newPage(product)
+const signIn = (page: Page, email: string, password: string) => signInAs(product, page, email, password)
 
 const navLabels = (page: Page) => page.$$eval('nav[aria-label=Main] a', (links) => links.map((a) => a.textContent?.trim()))
 
@@ -124,7 +78,7 @@ describe('signing in through the browser', { timeout: 60_000 }, () => {
     const admin = person('admin')
     await signIn(page, admin.email, admin.password)
     await page.waitForSelector('[data-test=project-list]')
-    expect(await navLabels(page)).toEqual(['Projects', 'People'])
+    expect(await navLabels(page)).toEqual(['Projects', 'Templates', 'People'])
 
     await page.goto(`${base}/people`, { waitUntil: 'networkidle0' })
     await page.waitForSelector('[data-test=people-table]')

@@ -255,6 +255,23 @@ describe('/api/templates', () => {
     expect(Object.keys(bad.body.error.fields)).toEqual(['query.from'])
   })
 
+  it('when an admin renames a template, then the name changes but never the key; others get 403 and bad input 400', async () => {
+    const { adminAgent, techAgent } = await firm()
+    const id = await publishedTemplate(adminAgent)
+
+    const renamed = await adminAgent.patch(`/api/templates/${id}`).send({ name: 'Pump start-up', description: 'Rotation, alignment, vibration' })
+    const denied = await techAgent.patch(`/api/templates/${id}`).send({ name: 'Mine now' })
+    const empty = await adminAgent.patch(`/api/templates/${id}`).send({})
+    const keyChange = await adminAgent.patch(`/api/templates/${id}`).send({ key: 'other-key' })
+
+    expect(renamed.status).toBe(200)
+    expect(renamed.body.template).toMatchObject({ key: 'pump-check', name: 'Pump start-up', description: 'Rotation, alignment, vibration' })
+    expect(denied.status).toBe(403)
+    expect(empty.status).toBe(400)
+    expect(empty.body.error.message).toBe('Give at least one of name, description')
+    expect(keyChange.status).toBe(400)
+  })
+
   it('when a definition is checked without saving, then every problem comes back by path', async () => {
     const { adminAgent } = await firm()
     const good = await adminAgent.post('/api/templates/validate').send({ definition: definition() })
