@@ -1,2 +1,3 @@
 export * from './roles'
 export * from './api'
+export * from './run'

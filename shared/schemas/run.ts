@@ -1,0 +1,105 @@
+import * as yup from 'yup'
+
+const uuid = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i
+const uuidString = () => yup.string().required('${path} is required').matches(uuid, '${path} must be a UUID')
+
+/** `POST /api/equipment/:equipmentId/runs`: start a run from the newest published version of a template. */
+export const runCreateSchema = yup.object({ templateId: uuidString() }).noUnknown()
+
+export const runParamsSchema = yup.object({ runId: uuidString() })
+export const readingParamsSchema = runParamsSchema.shape({
+  fieldId: yup.string().required().matches(/^[A-Za-z][A-Za-z0-9_]{0,63}$/, '${path} is not a field id'),
+})
+export const stepParamsSchema = runParamsSchema.shape({
+  stepId: yup.string().required().matches(/^[A-Za-z0-9][A-Za-z0-9_.-]{0,63}$/, '${path} is not a step id'),
+})
+
+const reason = yup.string().trim().max(2000, '${path} must be at most 2000 characters')
+
+/**
+ * `PUT /api/runs/:runId/readings/:fieldId`. `changeId` makes a retry harmless; `baseVersion` is the field version the
+ * change was made on (0 for a field nobody has set), so a change made on stale data is a conflict, never an overwrite.
+ * The entry itself is checked against the field's own schema on the server (`entrySchemaFor`).
+ */
+export const readingChangeSchema = yup
+  .object({
+    changeId: uuidString(),
+    baseVersion: yup.number().typeError('${path} must be a number').integer().min(0).required('${path} is required'),
+    entry: yup.mixed().nullable().default(null),
+    notApplicable: yup.boolean().strict().default(false),
+    naReason: reason.nullable().default(null),
+    justification: reason.nullable().default(null),
+  })
+  .noUnknown()
+  .test('na-reason', 'A reason is required when a field is marked not applicable', function (v) {
+    if (!v?.notApplicable || (v.naReason && v.naReason.trim())) return true
+    return this.createError({ path: 'naReason', message: 'A reason is required when a field is marked not applicable' })
+  })
+export type ReadingChangeInput = yup.InferType<typeof readingChangeSchema>
+
+/** `PUT /api/runs/:runId/steps/:stepId`: the step's note and not-applicable state. */
+export const stepChangeSchema = yup
+  .object({
+    changeId: uuidString(),
+    baseVersion: yup.number().typeError('${path} must be a number').integer().min(0).required('${path} is required'),
+    note: yup.string().max(8000, '${path} must be at most 8000 characters').default(''),
+    notApplicable: yup.boolean().strict().default(false),
+    naReason: reason.nullable().default(null),
+  })
+  .noUnknown()
+  .test('na-reason', 'A reason is required when a step is marked not applicable', function (v) {
+    if (!v?.notApplicable || (v.naReason && v.naReason.trim())) return true
+    return this.createError({ path: 'naReason', message: 'A reason is required when a step is marked not applicable' })
+  })
+export type StepChangeInput = yup.InferType<typeof stepChangeSchema>
+
+export const FINDING_SEVERITIES = ['minor', 'major', 'critical'] as const
+
+/** `POST /api/runs/:runId/findings`. */
+export const findingCreateSchema = yup
+  .object({
+    stepId: yup.string().required('Step is required'),
+    fieldId: yup.string().nullable().default(null),
+    severity: yup.mixed<(typeof FINDING_SEVERITIES)[number]>().required('Severity is required').oneOf([...FINDING_SEVERITIES], 'Severity must be minor, major or critical'),
+    description: yup.string().trim().required('Describe the deficiency').max(4000, 'Description must be at most 4000 characters'),
+  })
+  .noUnknown()
+export type FindingCreateInput = yup.InferType<typeof findingCreateSchema>
+
+/** `PATCH /api/runs/:runId/findings/:findingId`: edit, resolve (with how) or reopen. */
+export const findingUpdateSchema = yup
+  .object({
+    severity: yup.mixed<(typeof FINDING_SEVERITIES)[number]>().oneOf([...FINDING_SEVERITIES], 'Severity must be minor, major or critical').optional(),
+    description: yup.string().trim().min(1, 'Describe the deficiency').max(4000).optional(),
+    status: yup.mixed<'open' | 'resolved'>().oneOf(['open', 'resolved'], 'Status must be open or resolved').optional(),
+    resolution: yup.string().trim().max(4000).optional(),
+  })
+  .noUnknown()
+  .test('resolution', 'Say how it was resolved', function (v) {
+    if (v?.status !== 'resolved' || (v.resolution && v.resolution.trim())) return true
+    return this.createError({ path: 'resolution', message: 'Say how it was resolved' })
+  })
+  .test('not-empty', 'Give at least one field to change', (v) => v != null && Object.values(v).some((x) => x !== undefined))
+export type FindingUpdateInput = yup.InferType<typeof findingUpdateSchema>
+
+export const findingParamsSchema = runParamsSchema.shape({ findingId: uuidString() })
+export const attachmentParamsSchema = runParamsSchema.shape({ attachmentId: uuidString() })
+
+/** Multipart fields sent with `POST /api/runs/:runId/attachments` (the file itself is the `file` part). */
+export const attachmentFieldsSchema = yup
+  .object({
+    stepId: yup.string().required('stepId is required'),
+    fieldId: yup.string().optional(),
+    findingId: yup.string().matches(uuid, 'findingId must be a UUID').optional(),
+  })
+  .noUnknown()
+
+/** `GET /api/runs`. */
+export const runListQuerySchema = yup
+  .object({
+    state: yup.mixed<'in_progress' | 'submitted' | 'accepted' | 'returned'>().oneOf(['in_progress', 'submitted', 'accepted', 'returned'], 'state must be in_progress, submitted, accepted or returned').optional(),
+    projectId: yup.string().matches(uuid, 'projectId must be a UUID').optional(),
+    equipmentId: yup.string().matches(uuid, 'equipmentId must be a UUID').optional(),
+    mine: yup.boolean().optional(),
+  })
+  .noUnknown()

@@ -1,0 +1,143 @@
+import type { ChecklistDefinition } from '../schemas/checklist'
+import type { FieldEntry } from '../schemas/reading'
+import type { FieldEvaluation } from '../rules/evaluate'
+import type { AttachmentSummary } from './api'
+
+/** DESIGN.md §6: in_progress → submitted (performer signed) → accepted, or returned to the technician. */
+export type RunState = 'in_progress' | 'submitted' | 'accepted' | 'returned'
+export const EDITABLE_RUN_STATES: readonly RunState[] = ['in_progress', 'returned']
+
+export type FindingSeverity = 'minor' | 'major' | 'critical'
+export type FindingStatus = 'open' | 'resolved'
+
+export interface RunProgress {
+  /** Fields that count (required, not not-applicable). */
+  required: number
+  /** Of those, how many have a value. */
+  answered: number
+  pass: number
+  marginal: number
+  fail: number
+  incomplete: number
+  notApplicable: number
+}
+
+export interface RunSummary {
+  id: string
+  projectId: string
+  projectCode: string
+  projectName: string
+  equipmentId: string
+  equipmentTag: string
+  equipmentKind: string
+  templateId: string
+  templateName: string
+  templateVersionNumber: number
+  state: RunState
+  /** Optimistic-locking version of the run itself (state changes); readings carry their own. */
+  version: number
+  startedAt: string
+  startedByName: string | null
+  updatedAt: string
+  progress: RunProgress
+  openFindings: number
+}
+
+/** One field of a run: what was entered and the server's authoritative verdict. Every field of the version has one. */
+export interface RunReading {
+  fieldId: string
+  entry: FieldEntry | null
+  notApplicable: boolean
+  naReason: string | null
+  /** Why a fail is accepted without a finding. */
+  justification: string | null
+  evaluation: FieldEvaluation
+  /** Per-field optimistic-locking version; 0 when nobody has touched the field. */
+  version: number
+  updatedAt: string | null
+  updatedByName: string | null
+}
+
+export interface RunStepState {
+  stepId: string
+  note: string
+  notApplicable: boolean
+  naReason: string | null
+  version: number
+  updatedAt: string | null
+  updatedByName: string | null
+}
+
+export interface FindingSummary {
+  id: string
+  runId: string
+  stepId: string
+  fieldId: string | null
+  severity: FindingSeverity
+  description: string
+  status: FindingStatus
+  resolution: string | null
+  resolvedAt: string | null
+  resolvedByName: string | null
+  createdAt: string
+  createdByName: string | null
+  attachmentIds: string[]
+}
+
+export interface RunAttachment extends AttachmentSummary {
+  stepId: string
+  fieldId: string | null
+  findingId: string | null
+  /** `GET` URLs of the file and (images only) its thumbnail. */
+  url: string
+  thumbnailUrl: string | null
+}
+
+export interface RunDetail extends RunSummary {
+  unitSystem: 'IP' | 'SI'
+  definition: ChecklistDefinition
+  /** The equipment's design point in canonical SI (`{ value, unit }`), as `evaluateField` takes it. */
+  designPoint: Record<string, unknown>
+  readings: Record<string, RunReading>
+  steps: Record<string, RunStepState>
+  findings: FindingSummary[]
+  attachments: RunAttachment[]
+}
+
+/** Answer of `PUT /api/runs/:runId/readings/:fieldId`: the field, and every field again (computed ones follow). */
+export interface ReadingSaved {
+  reading: RunReading
+  readings: Record<string, RunReading>
+  progress: RunProgress
+  /** True when this change id had been applied before (a retry after a lost answer). */
+  duplicate: boolean
+}
+
+/** Body of a 409 `reading_conflict`: what is on the server now, so the person can choose. */
+export interface ReadingConflict {
+  error: { code: 'reading_conflict' | 'step_conflict'; message: string; fields: Record<string, string> }
+  current: RunReading | RunStepState
+}
+
+export interface ReviewItem {
+  sectionId: string
+  stepId: string
+  fieldId: string
+  label: string
+  verdict: 'fail' | 'marginal' | 'incomplete'
+  message: string
+  findingIds: string[]
+  justification: string | null
+}
+
+export interface RunReview {
+  counts: RunProgress
+  /** Every fail and marginal, with its finding(s) or justification. */
+  problems: ReviewItem[]
+  /** Required fields with no value and not marked not applicable. */
+  missingRequired: ReviewItem[]
+  openFindings: FindingSummary[]
+  /** Fails with neither a finding nor a justification, and missing required values, block signing. */
+  canSign: boolean
+  blockers: string[]
+}
