@@ -15,6 +15,7 @@ declare module 'vue' {
     BaseCautionList: typeof import('./components/BaseCautionList.vue')['default']
     BaseLogo: typeof import('./components/BaseLogo.vue')['default']
     BaseProjectCard: typeof import('./components/BaseProjectCard.vue')['default']
+    BaseVerdictBadge: typeof import('./components/BaseVerdictBadge.vue')['default']
     ElAlert: typeof import('element-plus/es')['ElAlert']
     ElBreadcrumb: typeof import('element-plus/es')['ElBreadcrumb']
     ElBreadcrumbItem: typeof import('element-plus/es')['ElBreadcrumbItem']
