@@ -129,3 +129,12 @@ export function useStopwatch(options: StopwatchOptions = {}): Stopwatch {
     },
   }
 }
+
+/** Elapsed seconds as a stopwatch shows them, "mm:ss.s" (minutes keep counting past 59). */
+export function formatElapsed(seconds: number): string {
+  const tenths = Math.max(0, Math.floor(Number.isFinite(seconds) ? seconds * 10 + 1e-6 : 0))
+  const minutes = Math.floor(tenths / 600)
+  const rest = tenths - minutes * 600
+  const secs = Math.floor(rest / 10)
+  return `${String(minutes).padStart(2, '0')}:${String(secs).padStart(2, '0')}.${rest % 10}`
+}
