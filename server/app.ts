@@ -13,11 +13,14 @@ import { requireAuth } from './middleware/auth'
 import { PostgresRateLimitStore } from './middleware/pg-rate-limit-store'
 import { equipmentRoutes } from './routes/equipment.routes'
 import { projectRoutes } from './routes/project.routes'
+import { runRoutes } from './routes/run.routes'
 import { templateRoutes } from './routes/template.routes'
 import { SESSION_COOKIE, sessionRoutes } from './routes/session.routes'
 import { userRoutes } from './routes/user.routes'
 import { EquipmentService } from './services/equipment.service'
+import { FindingService } from './services/finding.service'
 import { ProjectService } from './services/project.service'
+import { RunService } from './services/run.service'
 import { LocalDiskStorage, StorageService } from './storage/storage'
 import { TemplateService } from './services/template.service'
 import { UserService } from './services/user.service'
@@ -39,6 +42,10 @@ export function createApp({ config, db }: AppDeps): Express {
   const storage = new StorageService(new LocalDiskStorage(path.resolve(config.STORAGE_DIR)))
   const equipment = new EquipmentService(db, projects, storage)
   const equipmentRouters = equipmentRoutes(config, equipment, projects)
+  const runs = new RunService(db, projects)
+  const findings = new FindingService(db, runs, storage)
+  runs.findings = findings
+  const runRouters = runRoutes(config, runs, findings)
   const passport = createPassport(users)
   const PgStore = connectPgSimple(session)
   // The sessions share TypeORM's pg pool: one pool per process, and it reconnects by itself after an outage.
@@ -86,7 +93,9 @@ export function createApp({ config, db }: AppDeps): Express {
   api.use('/users', requireAuth, userRoutes(users))
   api.use('/projects/:projectId/equipment', requireAuth, equipmentRouters.byProject)
   api.use('/projects', requireAuth, projectRoutes(projects))
+  api.use('/equipment/:equipmentId/runs', requireAuth, runRouters.byEquipment)
   api.use('/equipment', requireAuth, equipmentRouters.byId)
+  api.use('/runs', requireAuth, runRouters.byId)
   api.use('/templates', requireAuth, templateRoutes(templates))
   api.use(notFoundHandler)
   api.use(errorHandler)

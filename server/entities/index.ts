@@ -2,11 +2,20 @@ import { Attachment } from './attachment.entity'
 import { AuditEvent } from './audit-event.entity'
 import { ChecklistTemplate } from './checklist-template.entity'
 import { Equipment } from './equipment.entity'
+import { Finding } from './finding.entity'
 import { Organization } from './organization.entity'
 import { Project } from './project.entity'
 import { ProjectMember } from './project-member.entity'
+import { Reading } from './reading.entity'
+import { Run } from './run.entity'
+import { RunAttachment } from './run-attachment.entity'
+import { RunChange } from './run-change.entity'
+import { RunStep } from './run-step.entity'
 import { TemplateVersion } from './template-version.entity'
 import { User } from './user.entity'
 
-export { Attachment, AuditEvent, ChecklistTemplate, Equipment, Organization, Project, ProjectMember, TemplateVersion, User }
-export const entities = [Organization, User, Project, ProjectMember, AuditEvent, Attachment, Equipment, ChecklistTemplate, TemplateVersion]
+export { Attachment, AuditEvent, ChecklistTemplate, Equipment, Finding, Organization, Project, ProjectMember, Reading, Run, RunAttachment, RunChange, RunStep, TemplateVersion, User }
+export const entities = [
+  Organization, User, Project, ProjectMember, AuditEvent, Attachment, Equipment, ChecklistTemplate, TemplateVersion,
+  Run, Reading, RunStep, RunChange, Finding, RunAttachment,
+]

@@ -7,6 +7,8 @@ export class AppError extends Error {
     message: string,
     readonly status = 400,
     readonly fields?: Record<string, string>,
+    /** Extra top-level members of the error response (e.g. `current` for a conflict). */
+    readonly extra?: Record<string, unknown>,
   ) {
     super(message)
     this.name = 'AppError'

@@ -11,7 +11,7 @@ export const notFoundHandler: RequestHandler = (req, _res, next) => {
 export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   if (res.headersSent) return
   if (err instanceof AppError) {
-    res.status(err.status).json({ error: err.toBody() })
+    res.status(err.status).json({ error: err.toBody(), ...err.extra })
     return
   }
   if (isDatabaseUnavailable(err)) {

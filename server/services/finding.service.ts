@@ -1,0 +1,225 @@
+import { DataSource, In } from 'typeorm'
+import sharp from 'sharp'
+import { fileTypeFromBuffer } from 'file-type'
+import type { FindingCreateInput, FindingUpdateInput } from '@shared/schemas/run'
+import type { SessionUser } from '@shared/types/api'
+import { EDITABLE_RUN_STATES, type FindingSummary, type ReviewItem, type RunAttachment as RunAttachmentView, type RunReview } from '@shared/types/run'
+import { AppError } from '../errors/app-error'
+import { Attachment, Finding, Reading, RunAttachment, RunStep, User } from '../entities'
+import type { StorageService } from '../storage/storage'
+import { recordAudit } from './audit.service'
+import { fieldPlaces, progressOf, type RunContext, type RunService } from './run.service'
+
+/** What may be attached to a run: photos and PDFs, recognised by their bytes, not by the name a browser gave them. */
+export const RUN_FILE_TYPES: Record<string, string> = { 'image/jpeg': 'jpg', 'image/png': 'png', 'image/webp': 'webp', 'application/pdf': 'pdf' }
+const THUMBNAIL_PX = 320
+
+/** Findings (deficiencies), attachments and the review summary of a run. */
+export class FindingService {
+  constructor(
+    private readonly db: DataSource,
+    private readonly runs: RunService,
+    private readonly storage: StorageService,
+  ) {}
+
+  private async names(ids: (string | null)[]) {
+    const wanted = [...new Set(ids.filter((x): x is string => Boolean(x)))]
+    if (!wanted.length) return new Map<string, string>()
+    const users = await this.db.getRepository(User).findBy({ id: In(wanted) })
+    return new Map(users.map((u) => [u.id, u.displayName]))
+  }
+
+  async listViews(runId: string): Promise<FindingSummary[]> {
+    const findings = await this.db.getRepository(Finding).find({ where: { runId }, order: { createdAt: 'ASC' } })
+    const links = await this.db.getRepository(RunAttachment).findBy({ runId })
+    const names = await this.names(findings.flatMap((f) => [f.createdBy, f.resolvedBy]))
+    return findings.map((f) => ({
+      id: f.id,
+      runId: f.runId,
+      stepId: f.stepId,
+      fieldId: f.fieldId,
+      severity: f.severity,
+      description: f.description,
+      status: f.status,
+      resolution: f.resolution,
+      resolvedAt: f.resolvedAt?.toISOString() ?? null,
+      resolvedByName: f.resolvedBy ? (names.get(f.resolvedBy) ?? null) : null,
+      createdAt: f.createdAt.toISOString(),
+      createdByName: f.createdBy ? (names.get(f.createdBy) ?? null) : null,
+      attachmentIds: links.filter((l) => l.findingId === f.id).map((l) => l.id),
+    }))
+  }
+
+  async attachmentViews(runId: string): Promise<RunAttachmentView[]> {
+    const links = await this.db.getRepository(RunAttachment).find({ where: { runId }, relations: { attachment: true }, order: { createdAt: 'ASC' } })
+    return links.map((l) => ({
+      id: l.id,
+      sha256: l.attachment.sha256,
+      mimeType: l.attachment.mimeType,
+      sizeBytes: l.attachment.sizeBytes,
+      originalName: l.attachment.originalName,
+      createdAt: l.createdAt.toISOString(),
+      stepId: l.stepId,
+      fieldId: l.fieldId,
+      findingId: l.findingId,
+      url: `/api/runs/${runId}/attachments/${l.id}`,
+      thumbnailUrl: l.thumbnailKey ? `/api/runs/${runId}/attachments/${l.id}?thumbnail=1` : null,
+    }))
+  }
+
+  private assertCanEdit(user: SessionUser, ctx: RunContext) {
+    if (user.role !== 'technician') throw AppError.forbidden('Only a commissioning technician on this project can change a run')
+    if (!EDITABLE_RUN_STATES.includes(ctx.run.state)) throw new AppError('run_locked', `This run is ${ctx.run.state.replace('_', ' ')} and can no longer be changed`, 409)
+  }
+
+  private assertPlace(ctx: RunContext, stepId: string, fieldId: string | null | undefined) {
+    const steps = new Set(ctx.definition.sections.flatMap((s) => s.steps.map((st) => st.id)))
+    if (!steps.has(stepId)) throw new AppError('unknown_step', `There is no step ${stepId} in this run’s checklist`, 400, { stepId: 'Not a step of this run’s checklist version' })
+    if (fieldId) {
+      const place = fieldPlaces(ctx.definition).get(fieldId)
+      if (!place || place.stepId !== stepId) throw new AppError('unknown_field', `There is no field ${fieldId} in step ${stepId}`, 400, { fieldId: 'Not a field of that step' })
+    }
+  }
+
+  async create(user: SessionUser, runId: string, input: FindingCreateInput): Promise<FindingSummary> {
+    const id = await this.db.transaction(async (tx) => {
+      const ctx = await this.runs.context(user, runId, tx, true)
+      this.assertCanEdit(user, ctx)
+      this.assertPlace(ctx, input.stepId, input.fieldId)
+      const finding = await tx.getRepository(Finding).save({ runId, stepId: input.stepId, fieldId: input.fieldId ?? null, severity: input.severity, description: input.description, status: 'open' as const, createdBy: user.id })
+      await recordAudit(tx, { actorId: user.id, action: 'finding.create', entityType: 'finding', entityId: finding.id, projectId: ctx.run.projectId, after: { runId, stepId: finding.stepId, fieldId: finding.fieldId, severity: finding.severity, description: finding.description } })
+      return finding.id
+    })
+    return (await this.listViews(runId)).find((f) => f.id === id)!
+  }
+
+  async update(user: SessionUser, runId: string, findingId: string, input: FindingUpdateInput): Promise<FindingSummary> {
+    await this.db.transaction(async (tx) => {
+      const ctx = await this.runs.context(user, runId, tx, true)
+      this.assertCanEdit(user, ctx)
+      const finding = await tx.getRepository(Finding).findOneBy({ id: findingId, runId })
+      if (!finding) throw AppError.notFound('Finding')
+      const before = { severity: finding.severity, description: finding.description, status: finding.status, resolution: finding.resolution }
+      if (input.severity !== undefined) finding.severity = input.severity
+      if (input.description !== undefined) finding.description = input.description
+      if (input.status === 'resolved' && finding.status !== 'resolved') {
+        finding.status = 'resolved'
+        finding.resolution = input.resolution ?? null
+        finding.resolvedBy = user.id
+        finding.resolvedAt = new Date()
+      } else if (input.status === 'open') {
+        finding.status = 'open'
+        finding.resolution = null
+        finding.resolvedBy = null
+        finding.resolvedAt = null
+      } else if (input.resolution !== undefined && finding.status === 'resolved') {
+        finding.resolution = input.resolution
+      }
+      await tx.getRepository(Finding).save(finding)
+      await recordAudit(tx, { actorId: user.id, action: 'finding.update', entityType: 'finding', entityId: finding.id, projectId: ctx.run.projectId, before, after: { severity: finding.severity, description: finding.description, status: finding.status, resolution: finding.resolution, runId } })
+    })
+    return (await this.listViews(runId)).find((f) => f.id === findingId)!
+  }
+
+  /** Stores a photo or PDF for a step (a field, a finding), with a thumbnail for images; the bytes decide the type. */
+  async attach(
+    user: SessionUser,
+    runId: string,
+    file: { buffer: Buffer; originalname: string },
+    where: { stepId: string; fieldId?: string; findingId?: string },
+  ): Promise<RunAttachmentView> {
+    const ctx = await this.runs.context(user, runId)
+    this.assertCanEdit(user, ctx)
+    this.assertPlace(ctx, where.stepId, where.fieldId)
+    if (where.findingId && !(await this.db.getRepository(Finding).existsBy({ id: where.findingId, runId }))) {
+      throw new AppError('not_found', 'Finding was not found on this run', 404, { findingId: 'No such finding on this run' })
+    }
+    const detected = await fileTypeFromBuffer(file.buffer)
+    const extension = detected ? RUN_FILE_TYPES[detected.mime] : undefined
+    if (!detected || !extension) throw new AppError('unsupported_file', 'Attach a photo (JPEG, PNG, WebP) or a PDF', 415, { file: 'Not a JPEG, PNG, WebP image or a PDF' })
+    const stored = await this.storage.save(file.buffer, 'runs', extension)
+    let thumbnailKey: string | null = null
+    if (detected.mime.startsWith('image/')) {
+      try {
+        const thumb = await sharp(file.buffer).rotate().resize(THUMBNAIL_PX, THUMBNAIL_PX, { fit: 'inside', withoutEnlargement: true }).webp({ quality: 78 }).toBuffer()
+        thumbnailKey = (await this.storage.save(thumb, 'thumbnails', 'webp')).key
+      } catch {
+        throw new AppError('unreadable_image', 'The image could not be read; it may be damaged', 422, { file: 'The image could not be read' })
+      }
+    }
+    const id = await this.db.transaction(async (tx) => {
+      const attachment = await tx.getRepository(Attachment).save({
+        organizationId: ctx.project.organizationId,
+        storageKey: stored.key,
+        sha256: stored.sha256,
+        mimeType: detected.mime,
+        sizeBytes: stored.size,
+        originalName: file.originalname.slice(0, 200) || `attachment.${extension}`,
+        uploadedBy: user.id,
+      })
+      const link = await tx.getRepository(RunAttachment).save({ runId, attachmentId: attachment.id, stepId: where.stepId, fieldId: where.fieldId ?? null, findingId: where.findingId ?? null, thumbnailKey })
+      await recordAudit(tx, { actorId: user.id, action: 'attachment.add', entityType: 'run_attachment', entityId: link.id, projectId: ctx.run.projectId, after: { runId, ...where, sha256: stored.sha256, mimeType: detected.mime, sizeBytes: stored.size } })
+      return link.id
+    })
+    return (await this.attachmentViews(runId)).find((a) => a.id === id)!
+  }
+
+  async file(user: SessionUser, runId: string, linkId: string, thumbnail: boolean): Promise<{ data: Buffer; mimeType: string; sha256: string; name: string }> {
+    await this.runs.context(user, runId)
+    const link = await this.db.getRepository(RunAttachment).findOne({ where: { id: linkId, runId }, relations: { attachment: true } })
+    if (!link) throw AppError.notFound('Attachment')
+    if (thumbnail) {
+      if (!link.thumbnailKey) throw AppError.notFound('Thumbnail')
+      const data = await this.storage.stream(link.thumbnailKey).then(async (s) => Buffer.concat(await s.toArray()))
+      return { data, mimeType: 'image/webp', sha256: link.attachment.sha256, name: link.attachment.originalName }
+    }
+    const data = await this.storage.read(link.attachment.storageKey, link.attachment.sha256)
+    return { data, mimeType: link.attachment.mimeType, sha256: link.attachment.sha256, name: link.attachment.originalName }
+  }
+
+  /** What the performer must see before signing: every fail and marginal with its handling, what is missing, what is open. */
+  async review(user: SessionUser, runId: string): Promise<RunReview> {
+    const ctx = await this.runs.context(user, runId)
+    const [readings, steps, findings] = await Promise.all([
+      this.db.getRepository(Reading).findBy({ runId }),
+      this.db.getRepository(RunStep).findBy({ runId }),
+      this.listViews(runId),
+    ])
+    const naSteps = new Set(steps.filter((s) => s.notApplicable).map((s) => s.stepId))
+    const places = fieldPlaces(ctx.definition)
+    const order = [...places.keys()]
+    readings.sort((a, b) => order.indexOf(a.fieldId) - order.indexOf(b.fieldId))
+    const problems: ReviewItem[] = []
+    const missingRequired: ReviewItem[] = []
+    for (const r of readings) {
+      const place = places.get(r.fieldId)
+      if (!place || r.notApplicable || naSteps.has(place.stepId)) continue
+      const item = (verdict: ReviewItem['verdict']): ReviewItem => ({
+        sectionId: place.sectionId,
+        stepId: place.stepId,
+        fieldId: r.fieldId,
+        label: place.field.label,
+        verdict,
+        message: r.evaluation.message,
+        findingIds: findings.filter((f) => f.fieldId === r.fieldId).map((f) => f.id),
+        justification: r.justification,
+      })
+      if (r.verdict === 'fail' || r.verdict === 'marginal') problems.push(item(r.verdict))
+      else if (r.verdict === 'incomplete' && place.field.required !== false && !place.field.computed) missingRequired.push(item('incomplete'))
+    }
+    const unhandled = problems.filter((p) => p.verdict === 'fail' && !p.findingIds.length && !p.justification?.trim())
+    const blockers = [
+      ...unhandled.map((p) => `${p.label} failed and has neither a finding nor a justification`),
+      ...missingRequired.map((m) => `${m.label} is required and has no value (record it or mark it not applicable with a reason)`),
+    ]
+    if (!EDITABLE_RUN_STATES.includes(ctx.run.state)) blockers.push(`The run is ${ctx.run.state.replace('_', ' ')}`)
+    return {
+      counts: progressOf(ctx.definition, readings, naSteps),
+      problems,
+      missingRequired,
+      openFindings: findings.filter((f) => f.status === 'open'),
+      canSign: blockers.length === 0,
+      blockers,
+    }
+  }
+}
