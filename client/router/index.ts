@@ -14,6 +14,8 @@ export type RouteName =
   | 'template-editor'
   | 'template-diff'
   | 'account'
+  | 'run'
+  | 'run-review'
   | 'not-found'
 
 declare module 'vue-router' {
@@ -23,6 +25,8 @@ declare module 'vue-router' {
     /** Roles allowed; absent means every signed-in role. */
     roles?: Role[]
     title?: string
+    /** Opens from this device's copy when the server cannot be reached (the runner keeps working offline). */
+    offline?: boolean
   }
 }
 
@@ -51,6 +55,8 @@ const routes: NamedRoute[] = [
     props: (route) => ({ templateId: route.params.templateId, from: route.query.from, to: route.query.to }),
   },
   { path: '/people', name: 'people', component: () => import('@/views/PeopleView.vue'), meta: { roles: ['admin'], title: 'People' } },
+  { path: '/runs/:runId', name: 'run', component: () => import('@/views/RunView.vue'), meta: { title: 'Run', offline: true }, props: true },
+  { path: '/runs/:runId/review', name: 'run-review', component: () => import('@/views/RunReviewView.vue'), meta: { title: 'Review' }, props: true },
   { path: '/account', name: 'account', component: () => import('@/views/AccountView.vue'), meta: { title: 'Account' } },
   { path: '/:pathMatch(.*)*', name: 'not-found', component: () => import('@/views/NotFoundView.vue'), meta: { title: 'Not found' } },
 ]
@@ -68,7 +74,14 @@ const router = createRouter({ history: createWebHistory(), routes })
 
 router.beforeEach(async (target) => {
   const session = useSessionStore()
-  await session.ensureLoaded()
+  try {
+    await session.ensureLoaded()
+  } catch (err) {
+    // No answer at all (a reload in a plant room without signal): the runner opens from this device's copy and its
+    // queued changes wait; the server still checks the sign-in on every change it receives.
+    if (target.meta.offline) return true
+    throw err
+  }
   if (target.meta.public) {
     if (target.name === 'sign-in' && session.user) return landingFor(session.user.role)
     return true

@@ -1,0 +1,481 @@
+import { defineStore } from 'pinia'
+import { computed, ref, shallowRef } from 'vue'
+import { ValidationError } from 'yup'
+import { evaluateField, type FieldEvaluation } from '@shared/rules'
+import type { ChecklistField, ChecklistSection, ChecklistStep } from '@shared/schemas/checklist'
+import type { AnyDesignPoint } from '@shared/schemas/design-point'
+import { entrySchemaFor, type FieldEntry } from '@shared/schemas/reading'
+import type { FindingCreateInput, FindingUpdateInput } from '@shared/schemas/run'
+import {
+  EDITABLE_RUN_STATES,
+  type FindingSummary,
+  type ReadingSaved,
+  type RunAttachment,
+  type RunDetail,
+  type RunReading,
+  type RunStepState,
+} from '@shared/types/run'
+import { ApiError } from '@/api/http'
+import { runsApi } from '@/api/runs'
+import {
+  createIndexedDbQueueStorage,
+  createMemoryQueueStorage,
+  useOfflineQueue,
+  type OfflineQueue,
+  type QueuedChange,
+  type QueueStorage,
+} from '@/composables/useOfflineQueue'
+import { useSessionStore } from '@/stores/session'
+
+/** What the technician has entered for a field and the server does not confirm yet. */
+export interface LocalReading {
+  entry: FieldEntry | null
+  notApplicable: boolean
+  naReason: string | null
+  justification: string | null
+}
+export interface LocalStep {
+  note: string
+  notApplicable: boolean
+  naReason: string | null
+}
+
+export interface StepRef {
+  section: ChecklistSection
+  step: ChecklistStep
+  index: number
+}
+
+export type SaveTone = 'saved' | 'saving' | 'offline' | 'problem' | 'readonly'
+
+const readingContent = (r: LocalReading): LocalReading => ({ entry: r.entry, notApplicable: r.notApplicable, naReason: r.naReason, justification: r.justification })
+const sameJson = (a: unknown, b: unknown) => JSON.stringify(a) === JSON.stringify(b)
+
+/** Opens the queue's storage: IndexedDB, or memory when this browser has none (then the page says so). */
+let storageFactory: () => Promise<QueueStorage> = createIndexedDbQueueStorage
+/** Tests hand in their own storage. */
+export function setRunQueueStorageFactory(factory: () => Promise<QueueStorage>) {
+  storageFactory = factory
+}
+
+/** The run being worked on: the server's state, what this device has entered on top, and the outbox that sends it. */
+export const useRunStore = defineStore('run', () => {
+  const run = ref<RunDetail | null>(null)
+  const local = ref<Record<string, LocalReading>>({})
+  const localSteps = ref<Record<string, LocalStep>>({})
+  const fieldErrors = ref<Record<string, string>>({})
+  const stepErrors = ref<Record<string, string>>({})
+  const loadError = ref<string | null>(null)
+  const isLoading = ref(false)
+  /** Opened from this device's copy because the server could not be reached. */
+  const fromDevice = ref(false)
+  const storageProblem = ref<string | null>(null)
+  const queue = shallowRef<OfflineQueue | null>(null)
+  let storage: QueueStorage | null = null
+  let snapshotTimer: ReturnType<typeof setTimeout> | undefined
+
+  const session = useSessionStore()
+
+  const definition = computed(() => run.value?.definition ?? null)
+  const steps = computed<StepRef[]>(() => {
+    const out: StepRef[] = []
+    for (const section of definition.value?.sections ?? []) for (const step of section.steps) out.push({ section, step, index: out.length })
+    return out
+  })
+  const fieldIndex = computed(() => {
+    const map = new Map<string, { field: ChecklistField; step: ChecklistStep; section: ChecklistSection }>()
+    for (const { section, step } of steps.value) for (const field of step.fields) map.set(field.id, { field, step, section })
+    return map
+  })
+  /** Set when this device opened the run as a technician: lets a reload with no connection keep taking readings. */
+  const deviceEditor = ref(false)
+  const canEdit = computed(() => {
+    if (!run.value || !EDITABLE_RUN_STATES.includes(run.value.state)) return false
+    if (session.user) return session.role === 'technician'
+    return !session.loaded && deviceEditor.value
+  })
+  const editorKey = (runId: string) => `startproof:run-editor:${runId}`
+  function rememberEditor(runId: string) {
+    try {
+      if (session.role === 'technician') localStorage.setItem(editorKey(runId), session.user!.id)
+      deviceEditor.value = localStorage.getItem(editorKey(runId)) !== null
+    } catch {
+      deviceEditor.value = false
+    }
+  }
+
+  function serverReading(fieldId: string): RunReading | undefined {
+    return run.value?.readings[fieldId]
+  }
+
+  /** The field as the technician sees it now: this device's entry over the server's. */
+  function working(fieldId: string): LocalReading {
+    const mine = local.value[fieldId]
+    if (mine) return mine
+    const r = serverReading(fieldId)
+    return { entry: r?.entry ?? null, notApplicable: r?.notApplicable ?? false, naReason: r?.naReason ?? null, justification: r?.justification ?? null }
+  }
+  function workingStep(stepId: string): LocalStep {
+    const mine = localSteps.value[stepId]
+    if (mine) return mine
+    const s = run.value?.steps[stepId]
+    return { note: s?.note ?? '', notApplicable: s?.notApplicable ?? false, naReason: s?.naReason ?? null }
+  }
+
+  const workingEntries = computed(() => {
+    const out: Record<string, FieldEntry | null> = {}
+    for (const [id] of fieldIndex.value) {
+      const w = working(id)
+      out[id] = w.notApplicable ? null : w.entry
+    }
+    return out
+  })
+
+  /** Live verdicts from the shared engine on the working values; only what this device changed differs from the server's. */
+  const liveEvaluations = computed(() => {
+    const out: Record<string, FieldEvaluation> = {}
+    const def = definition.value
+    if (!def || !run.value) return out
+    const hasLocal = Object.keys(local.value).length > 0
+    const context = { definition: def, designPoint: run.value.designPoint as AnyDesignPoint, unitSystem: run.value.unitSystem, readings: workingEntries.value }
+    for (const [id, { field }] of fieldIndex.value) {
+      const stored = serverReading(id)?.evaluation
+      if (stored && !local.value[id] && !(field.computed && hasLocal)) {
+        out[id] = stored
+        continue
+      }
+      try {
+        out[id] = evaluateField(field, workingEntries.value[id], context)
+      } catch (err) {
+        out[id] = {
+          fieldId: id,
+          verdict: 'incomplete',
+          message: err instanceof Error ? err.message : String(err),
+          required: field.required !== false,
+          computed: Boolean(field.computed),
+          canonical: null,
+          display: null,
+          limits: null,
+        }
+      }
+    }
+    return out
+  })
+
+  function isAnswered(fieldId: string): boolean {
+    const w = working(fieldId)
+    if (w.notApplicable) return true
+    const e = liveEvaluations.value[fieldId]
+    return !!e && e.verdict !== 'incomplete'
+  }
+
+  /** Per step: fields that count, answered, and the verdicts among them. */
+  function stepProgress(step: ChecklistStep) {
+    const stepNa = workingStep(step.id).notApplicable
+    let required = 0
+    let answered = 0
+    let fail = 0
+    let marginal = 0
+    for (const f of step.fields) {
+      const e = liveEvaluations.value[f.id]
+      if (e?.verdict === 'fail') fail++
+      if (e?.verdict === 'marginal') marginal++
+      if (f.computed || f.required === false) continue
+      required++
+      if (stepNa || isAnswered(f.id)) answered++
+    }
+    return { required, answered, fail, marginal, done: required === answered, notApplicable: stepNa }
+  }
+
+  const overallProgress = computed(() => {
+    let required = 0
+    let answered = 0
+    for (const { step } of steps.value) {
+      const p = stepProgress(step)
+      required += p.required
+      answered += p.answered
+    }
+    return { required, answered, pct: required ? Math.round((answered / required) * 100) : 0 }
+  })
+
+  const conflictFor = (fieldId: string) => queue.value?.conflicts.value.find((c) => c.kind === 'reading' && c.targetId === fieldId) ?? null
+  const stepConflictFor = (stepId: string) => queue.value?.conflicts.value.find((c) => c.kind === 'step' && c.targetId === stepId) ?? null
+
+  function scheduleSnapshot() {
+    clearTimeout(snapshotTimer)
+    snapshotTimer = setTimeout(() => {
+      if (run.value && storage) void storage.putRun(run.value).catch(() => undefined)
+    }, 400)
+  }
+
+  function overlay(changes: QueuedChange[]) {
+    for (const c of changes) {
+      if (c.kind === 'reading') {
+        const b = c.body as LocalReading
+        local.value[c.targetId] = readingContent({ entry: b.entry ?? null, notApplicable: !!b.notApplicable, naReason: b.naReason ?? null, justification: b.justification ?? null })
+      } else {
+        const b = c.body as unknown as LocalStep
+        localSteps.value[c.targetId] = { note: b.note ?? '', notApplicable: !!b.notApplicable, naReason: b.naReason ?? null }
+      }
+    }
+  }
+
+  function applyReadingSaved(change: QueuedChange, res: ReadingSaved) {
+    if (!run.value) return
+    run.value.readings = res.readings
+    run.value.progress = res.progress
+    const left = queue.value?.changesFor('reading', change.targetId).length ?? 0
+    const mine = local.value[change.targetId]
+    const sent = change.body as LocalReading
+    if (!left && mine && sameJson(readingContent(mine), readingContent({ entry: sent.entry ?? null, notApplicable: !!sent.notApplicable, naReason: sent.naReason ?? null, justification: sent.justification ?? null }))) {
+      delete local.value[change.targetId]
+    }
+    scheduleSnapshot()
+  }
+
+  function applyStepSaved(change: QueuedChange, step: RunStepState) {
+    if (!run.value) return
+    run.value.steps[step.stepId] = step
+    const left = queue.value?.changesFor('step', change.targetId).length ?? 0
+    const mine = localSteps.value[change.targetId]
+    const sent = change.body as unknown as LocalStep
+    if (!left && mine && sameJson(mine, { note: sent.note ?? '', notApplicable: !!sent.notApplicable, naReason: sent.naReason ?? null })) delete localSteps.value[change.targetId]
+    scheduleSnapshot()
+  }
+
+  function messageFor(err: ApiError, targetId: string): string {
+    const fields = err.fields ?? {}
+    const direct = fields[targetId] ?? Object.entries(fields).find(([k]) => k === 'entry' || k.startsWith('entry.') || k.startsWith(`${targetId}.`))?.[1]
+    return direct ?? Object.values(fields)[0] ?? err.message
+  }
+
+  function close() {
+    queue.value?.dispose()
+    queue.value = null
+    clearTimeout(snapshotTimer)
+    run.value = null
+    local.value = {}
+    localSteps.value = {}
+    fieldErrors.value = {}
+    stepErrors.value = {}
+    loadError.value = null
+    fromDevice.value = false
+  }
+
+  /** Opens a run: this device's copy at once if it has one, the server's when it answers, then the changes still kept here. */
+  async function open(runId: string) {
+    if (run.value?.id === runId && queue.value) return
+    close()
+    isLoading.value = true
+    try {
+      try {
+        storage = await storageFactory()
+        storageProblem.value = null
+      } catch {
+        storage = createMemoryQueueStorage()
+        storageProblem.value = 'This browser does not keep changes on the device: keep this page open until it says Saved.'
+      }
+      const store = storage
+      rememberEditor(runId)
+      const snapshot = await store.getRun(runId).catch(() => null)
+      if (snapshot) run.value = snapshot
+      overlay(await store.list(runId).catch(() => []))
+
+      const q = useOfflineQueue({
+        runId,
+        storage: store,
+        send: async (change) => {
+          if (change.kind === 'reading') {
+            const res = await runsApi.saveReading(runId, change.targetId, change.body as never)
+            return { version: res.reading.version, response: res }
+          }
+          const res = await runsApi.saveStep(runId, change.targetId, change.body as never)
+          return { version: res.step.version, response: res }
+        },
+        onSaved: (change, result) => {
+          // The server took a change, so it answers again: a session check that failed offline can succeed now.
+          if (!session.loaded) void session.ensureLoaded().catch(() => undefined)
+          const response = (result as { response?: unknown }).response
+          if (change.kind === 'reading') applyReadingSaved(change, response as ReadingSaved)
+          else applyStepSaved(change, (response as { step: RunStepState }).step)
+        },
+        onRejected: (change, err) => {
+          if (change.kind === 'reading') fieldErrors.value[change.targetId] = messageFor(err, change.targetId)
+          else stepErrors.value[change.targetId] = messageFor(err, change.targetId)
+        },
+      })
+      queue.value = q
+
+      try {
+        const fresh = await runsApi.get(runId)
+        run.value = fresh
+        fromDevice.value = false
+        void store.putRun(fresh).catch(() => undefined)
+      } catch (err) {
+        if (!run.value) {
+          loadError.value =
+            err instanceof ApiError && err.status === 0
+              ? 'The server cannot be reached and this run has not been opened on this device before. Try again when the connection returns.'
+              : err instanceof Error
+                ? err.message
+                : String(err)
+        } else fromDevice.value = true
+      }
+      overlay(await q.load())
+    } finally {
+      isLoading.value = false
+    }
+  }
+
+  /** Fetches the server's state again (after a conflict is settled); what this device holds stays on top. */
+  async function refresh() {
+    if (!run.value) return
+    try {
+      const fresh = await runsApi.get(run.value.id)
+      run.value = fresh
+      fromDevice.value = false
+      scheduleSnapshot()
+    } catch {
+      // Offline: the device copy stands until the next answer.
+    }
+  }
+
+  function validateReading(field: ChecklistField, r: LocalReading): string | null {
+    if (r.notApplicable && !r.naReason?.trim()) return 'Give the reason this does not apply.'
+    if (r.notApplicable || r.entry === null) return null
+    try {
+      entrySchemaFor(field).validateSync(r.entry, { strict: true })
+      return null
+    } catch (err) {
+      if (ValidationError.isError(err)) return err.errors[0]?.replace(/^this\s*/, `${field.label} `) ?? err.message
+      throw err
+    }
+  }
+
+  /**
+   * Records a change to a field: kept in the page at once (the live verdict follows), written to this device's
+   * queue, and sent after typing settles. A value the field's own schema refuses stays in the page with the reason.
+   */
+  async function setReading(fieldId: string, patch: Partial<LocalReading>, options: { typingProblem?: string | null } = {}) {
+    const found = fieldIndex.value.get(fieldId)
+    if (!found || !canEdit.value || !queue.value) return
+    const next = readingContent({ ...working(fieldId), ...patch })
+    local.value[fieldId] = next
+    delete fieldErrors.value[fieldId]
+    const problem = options.typingProblem ?? validateReading(found.field, next)
+    if (problem) {
+      fieldErrors.value[fieldId] = problem
+      return
+    }
+    await queue.value.enqueue('reading', fieldId, { ...next }, serverReading(fieldId)?.version ?? 0)
+  }
+
+  async function setStep(stepId: string, patch: Partial<LocalStep>) {
+    if (!canEdit.value || !queue.value) return
+    const next = { ...workingStep(stepId), ...patch }
+    localSteps.value[stepId] = next
+    delete stepErrors.value[stepId]
+    if (next.notApplicable && !next.naReason?.trim()) {
+      stepErrors.value[stepId] = 'Give the reason this step does not apply.'
+      return
+    }
+    await queue.value.enqueue('step', stepId, { note: next.note, notApplicable: next.notApplicable, naReason: next.notApplicable ? next.naReason : null }, run.value?.steps[stepId]?.version ?? 0)
+  }
+
+  async function keepTheirs(kind: 'reading' | 'step', targetId: string) {
+    const q = queue.value
+    const c = kind === 'reading' ? conflictFor(targetId) : stepConflictFor(targetId)
+    if (!q || !c || !run.value) return
+    if (kind === 'reading') {
+      run.value.readings[targetId] = c.conflict!.current as RunReading
+      delete local.value[targetId]
+      delete fieldErrors.value[targetId]
+    } else {
+      run.value.steps[targetId] = c.conflict!.current as RunStepState
+      delete localSteps.value[targetId]
+    }
+    await q.keepTheirs(kind, targetId)
+    void refresh()
+  }
+
+  async function useMine(kind: 'reading' | 'step', targetId: string) {
+    const q = queue.value
+    const c = kind === 'reading' ? conflictFor(targetId) : stepConflictFor(targetId)
+    if (!q || !c || !run.value) return
+    const current = c.conflict!.current
+    if (kind === 'reading') run.value.readings[targetId] = current as RunReading
+    else run.value.steps[targetId] = current as RunStepState
+    await q.useMine(kind, targetId, current.version)
+  }
+
+  // Findings and files need the server: they are not queued, and a failure says so where it happened.
+  async function uploadFile(file: File, where: { stepId: string; fieldId?: string | null; findingId?: string | null }): Promise<RunAttachment> {
+    if (!run.value) throw new Error('No run is open')
+    const attachment = await runsApi.uploadAttachment(run.value.id, file, where)
+    run.value.attachments.push(attachment)
+    scheduleSnapshot()
+    return attachment
+  }
+
+  async function addPhoto(fieldId: string, file: File) {
+    const found = fieldIndex.value.get(fieldId)
+    if (!found) return
+    const attachment = await uploadFile(file, { stepId: found.step.id, fieldId })
+    const current = working(fieldId).entry as { value?: unknown } | null
+    const ids = Array.isArray(current?.value) ? (current!.value as string[]) : []
+    await setReading(fieldId, { entry: { value: [...ids, attachment.id] } })
+  }
+
+  async function removePhoto(fieldId: string, attachmentId: string) {
+    const current = working(fieldId).entry as { value?: unknown } | null
+    const ids = (Array.isArray(current?.value) ? (current!.value as string[]) : []).filter((id) => id !== attachmentId)
+    await setReading(fieldId, { entry: ids.length ? { value: ids } : null })
+  }
+
+  async function createFinding(input: FindingCreateInput, files: File[] = []): Promise<FindingSummary> {
+    if (!run.value) throw new Error('No run is open')
+    const finding = await runsApi.createFinding(run.value.id, input)
+    run.value.findings.push(finding)
+    for (const file of files) {
+      const a = await uploadFile(file, { stepId: input.stepId, fieldId: input.fieldId ?? null, findingId: finding.id })
+      finding.attachmentIds.push(a.id)
+    }
+    scheduleSnapshot()
+    return finding
+  }
+
+  async function updateFinding(findingId: string, input: FindingUpdateInput): Promise<FindingSummary> {
+    if (!run.value) throw new Error('No run is open')
+    const updated = await runsApi.updateFinding(run.value.id, findingId, input)
+    const i = run.value.findings.findIndex((f) => f.id === findingId)
+    if (i >= 0) run.value.findings[i] = updated
+    scheduleSnapshot()
+    return updated
+  }
+
+  const saveState = computed<{ tone: SaveTone; label: string; detail: string | null }>(() => {
+    const q = queue.value
+    if (!run.value) return { tone: 'saving', label: 'Opening…', detail: null }
+    if (!canEdit.value && !q?.pendingCount.value) return { tone: 'readonly', label: 'Read only', detail: null }
+    const n = q?.pendingCount.value ?? 0
+    const kept = `${n} change${n === 1 ? '' : 's'} kept on this device`
+    const status = q?.status.value ?? 'saved'
+    if (status === 'offline') return { tone: 'offline', label: `Offline — ${kept}`, detail: q?.lastError.value ?? null }
+    if (status === 'failing') return { tone: 'offline', label: `Server not answering — ${kept}`, detail: q?.lastError.value ?? null }
+    if (status === 'signed_out') return { tone: 'problem', label: `Signed out — ${kept}; sign in again to send them`, detail: null }
+    const conflicts = q?.conflicts.value.length ?? 0
+    if (conflicts) return { tone: 'problem', label: `Not saved: ${conflicts} change${conflicts === 1 ? '' : 's'} also made by someone else`, detail: null }
+    const errors = [...Object.values(fieldErrors.value), ...Object.values(stepErrors.value)]
+    if (errors.length) return { tone: 'problem', label: `Not saved: ${errors[0]}`, detail: errors.length > 1 ? `${errors.length} fields need attention` : null }
+    if (n > 0 || status === 'sending' || status === 'waiting') return { tone: 'saving', label: 'Saving…', detail: null }
+    if (fromDevice.value) return { tone: 'offline', label: 'Opened from this device — the server has not answered yet', detail: null }
+    return { tone: 'saved', label: 'Saved', detail: null }
+  })
+
+  return {
+    run, local, localSteps, fieldErrors, stepErrors, loadError, isLoading, fromDevice, storageProblem, queue,
+    definition, steps, fieldIndex, canEdit, liveEvaluations, overallProgress, saveState,
+    working, workingStep, serverReading, stepProgress, conflictFor, stepConflictFor, isAnswered,
+    open, close, refresh, setReading, setStep, keepTheirs, useMine, addPhoto, removePhoto, uploadFile, createFinding, updateFinding,
+  }
+})
