@@ -1,3 +1,4 @@
 export * from './roles'
 export * from './api'
 export * from './run'
+export * from './report'
