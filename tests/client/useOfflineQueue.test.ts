@@ -1,0 +1,257 @@
+import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { RunApiError } from '@/api/runs'
+import { createMemoryQueueStorage, useOfflineQueue, type QueuedChange } from '@/composables/useOfflineQueue'
+import type { RunReading } from '@shared/types/run'
+
+const RUN = 'run-1'
+const reading = (value: number) => ({ entry: { value, unit: 'psid' }, notApplicable: false, naReason: null, justification: null })
+const network = () => new RunApiError(0, 'network', 'The server cannot be reached', {}, null)
+const current = (version: number, value: number): RunReading => ({
+  fieldId: 'oilPressureRunning',
+  entry: { value, unit: 'psid' },
+  notApplicable: false,
+  naReason: null,
+  justification: null,
+  evaluation: { fieldId: 'oilPressureRunning', verdict: 'pass', message: '', required: true, computed: false, canonical: null, display: { value, unit: 'psid', text: `${value} psid` }, limits: null },
+  version,
+  updatedAt: '2026-12-01T10:32:00.000Z',
+  updatedByName: 'Ines Marlow',
+})
+
+let storage: ReturnType<typeof createMemoryQueueStorage>
+beforeEach(() => {
+  vi.useFakeTimers()
+  storage = createMemoryQueueStorage()
+})
+afterEach(() => {
+  vi.useRealTimers()
+})
+
+function setup(send: (c: QueuedChange) => Promise<{ version: number }>, extra: Partial<Parameters<typeof useOfflineQueue>[0]> = {}) {
+  const onRejected = vi.fn()
+  const onConflict = vi.fn()
+  const onSaved = vi.fn()
+  const queue = useOfflineQueue({ runId: RUN, storage, send, onRejected, onConflict, onSaved, debounceMs: 600, backoffMs: 1000, maxBackoffMs: 8000, listenOnline: false, ...extra })
+  return { queue, onRejected, onConflict, onSaved }
+}
+
+describe('useOfflineQueue', () => {
+  it('when a change is made, then it is in storage before any request, sent after typing settles, and removed after the 200', async () => {
+    const send = vi.fn().mockResolvedValue({ version: 1 })
+    const { queue, onSaved } = setup(send)
+    await queue.load()
+    const change = await queue.enqueue('reading', 'oilPressureRunning', reading(36), 0)
+    expect(storage.changes.get(change.changeId)?.body).toMatchObject({ entry: { value: 36, unit: 'psid' }, baseVersion: 0, changeId: change.changeId })
+    expect(send).not.toHaveBeenCalled()
+    await vi.advanceTimersByTimeAsync(599)
+    expect(send).not.toHaveBeenCalled()
+    await vi.advanceTimersByTimeAsync(1)
+    expect(send).toHaveBeenCalledTimes(1)
+    expect(storage.changes.size).toBe(0)
+    expect(onSaved).toHaveBeenCalledTimes(1)
+    expect(queue.status.value).toBe('saved')
+    queue.dispose()
+  })
+
+  it('when a field changes twice before it is sent, then one request carries the newer value', async () => {
+    const send = vi.fn().mockResolvedValue({ version: 1 })
+    const { queue } = setup(send)
+    await queue.load()
+    await queue.enqueue('reading', 'oilPressureRunning', reading(3), 0)
+    await vi.advanceTimersByTimeAsync(300)
+    await queue.enqueue('reading', 'oilPressureRunning', reading(36), 0)
+    expect(storage.changes.size).toBe(1)
+    await vi.advanceTimersByTimeAsync(600)
+    expect(send).toHaveBeenCalledTimes(1)
+    expect(send.mock.calls[0][0].body.entry).toEqual({ value: 36, unit: 'psid' })
+    queue.dispose()
+  })
+
+  it('when several fields change, then they are sent in the order made, one request at a time', async () => {
+    let inFlight = 0
+    let most = 0
+    const order: string[] = []
+    const send = vi.fn(async (c: QueuedChange) => {
+      inFlight++
+      most = Math.max(most, inFlight)
+      order.push(c.targetId)
+      await new Promise((r) => setTimeout(r, 100))
+      inFlight--
+      return { version: 1 }
+    })
+    const { queue } = setup(send)
+    await queue.load()
+    await queue.enqueue('reading', 'voltsAB', reading(461), 0)
+    await queue.enqueue('reading', 'voltsBC', reading(459), 0)
+    await queue.enqueue('step', 'motor-supply', { note: 'Meter serial 4471', notApplicable: false, naReason: null }, 0)
+    await vi.advanceTimersByTimeAsync(2000)
+    expect(order).toEqual(['voltsAB', 'voltsBC', 'motor-supply'])
+    expect(most).toBe(1)
+    expect(storage.changes.size).toBe(0)
+    queue.dispose()
+  })
+
+  it('when the network fails, then the change is kept, retried with growing waits, and sent once the server answers', async () => {
+    const send = vi.fn().mockRejectedValueOnce(network()).mockRejectedValueOnce(network()).mockResolvedValue({ version: 1 })
+    const { queue } = setup(send)
+    await queue.load()
+    await queue.enqueue('reading', 'chwFlow', reading(1200), 0)
+    await vi.advanceTimersByTimeAsync(600)
+    expect(send).toHaveBeenCalledTimes(1)
+    expect(queue.status.value).toBe('offline')
+    expect(storage.changes.size).toBe(1)
+    await vi.advanceTimersByTimeAsync(999)
+    expect(send).toHaveBeenCalledTimes(1)
+    await vi.advanceTimersByTimeAsync(1)
+    expect(send).toHaveBeenCalledTimes(2)
+    // The second wait is twice the first.
+    await vi.advanceTimersByTimeAsync(1999)
+    expect(send).toHaveBeenCalledTimes(2)
+    await vi.advanceTimersByTimeAsync(1)
+    expect(send).toHaveBeenCalledTimes(3)
+    expect(storage.changes.size).toBe(0)
+    expect(queue.status.value).toBe('saved')
+    // Every attempt carried the same change id, so a retry after a lost answer is harmless.
+    expect(new Set(send.mock.calls.map((c) => c[0].changeId)).size).toBe(1)
+    queue.dispose()
+  })
+
+  it('when the database is down (503), then the change is kept and the state says the server is failing', async () => {
+    const send = vi.fn().mockRejectedValue(new RunApiError(503, 'database_unavailable', 'The database is not available', {}, null))
+    const { queue, onRejected } = setup(send)
+    await queue.load()
+    await queue.enqueue('reading', 'chwFlow', reading(1200), 0)
+    await vi.advanceTimersByTimeAsync(600)
+    expect(queue.status.value).toBe('failing')
+    expect(storage.changes.size).toBe(1)
+    expect(onRejected).not.toHaveBeenCalled()
+    queue.dispose()
+  })
+
+  it('when the connection returns, then retryNow sends at once instead of waiting out the backoff', async () => {
+    const send = vi.fn().mockRejectedValueOnce(network()).mockRejectedValueOnce(network()).mockResolvedValue({ version: 1 })
+    const { queue } = setup(send)
+    await queue.load()
+    await queue.enqueue('reading', 'chwFlow', reading(1200), 0)
+    await vi.advanceTimersByTimeAsync(600 + 1000)
+    expect(send).toHaveBeenCalledTimes(2)
+    queue.retryNow()
+    await vi.advanceTimersByTimeAsync(0)
+    expect(send).toHaveBeenCalledTimes(3)
+    expect(storage.changes.size).toBe(0)
+    queue.dispose()
+  })
+
+  it('when the server refuses a value (400), then it is dropped with the reason and the changes behind it still go', async () => {
+    const refusal = new RunApiError(400, 'invalid_reading', 'Chilled-water flow −10 gpm cannot be negative', { chwFlow: 'Chilled-water flow −10 gpm cannot be negative' }, null)
+    const send = vi.fn(async (c: QueuedChange) => {
+      if (c.targetId === 'chwFlow') throw refusal
+      return { version: 1 }
+    })
+    const { queue, onRejected } = setup(send)
+    await queue.load()
+    await queue.enqueue('reading', 'chwFlow', reading(-10), 0)
+    await queue.enqueue('reading', 'cwFlow', reading(1500), 0)
+    await vi.advanceTimersByTimeAsync(1000)
+    expect(onRejected).toHaveBeenCalledWith(expect.objectContaining({ targetId: 'chwFlow' }), refusal)
+    expect(send.mock.calls.map((c) => c[0].targetId)).toEqual(['chwFlow', 'cwFlow'])
+    expect(storage.changes.size).toBe(0)
+    queue.dispose()
+  })
+
+  it('when someone else changed the field, then the change waits as a conflict, other fields go on, and "use mine" resends on their version', async () => {
+    const theirs = current(3, 36)
+    let conflictOnce = true
+    const send = vi.fn(async (c: QueuedChange) => {
+      if (c.targetId === 'oilPressureRunning' && conflictOnce) {
+        conflictOnce = false
+        throw new RunApiError(409, 'reading_conflict', 'Ines Marlow changed Oil pressure to 36 psid', {}, theirs)
+      }
+      return { version: 4 }
+    })
+    const { queue, onConflict } = setup(send)
+    await queue.load()
+    const first = await queue.enqueue('reading', 'oilPressureRunning', reading(38), 2)
+    await queue.enqueue('reading', 'cwFlow', reading(1500), 0)
+    await vi.advanceTimersByTimeAsync(1000)
+    expect(onConflict).toHaveBeenCalledTimes(1)
+    expect(queue.conflicts.value).toHaveLength(1)
+    expect(storage.changes.get(first.changeId)?.state).toBe('conflict')
+    expect(send.mock.calls.map((c) => c[0].targetId)).toEqual(['oilPressureRunning', 'cwFlow'])
+
+    await queue.useMine('reading', 'oilPressureRunning', theirs.version)
+    await vi.advanceTimersByTimeAsync(0)
+    const resent = send.mock.calls[2][0]
+    expect(resent.body.baseVersion).toBe(3)
+    expect(resent.changeId).not.toBe(first.changeId)
+    expect(resent.body.entry).toEqual({ value: 38, unit: 'psid' })
+    expect(storage.changes.size).toBe(0)
+    queue.dispose()
+  })
+
+  it('when the person keeps theirs, then this device forgets its change and sends nothing for the field', async () => {
+    const send = vi.fn().mockRejectedValueOnce(new RunApiError(409, 'reading_conflict', 'Changed meanwhile', {}, current(3, 36)))
+    const { queue } = setup(send)
+    await queue.load()
+    await queue.enqueue('reading', 'oilPressureRunning', reading(38), 2)
+    await vi.advanceTimersByTimeAsync(600)
+    expect(queue.conflicts.value).toHaveLength(1)
+    await queue.keepTheirs('reading', 'oilPressureRunning')
+    await vi.advanceTimersByTimeAsync(5000)
+    expect(send).toHaveBeenCalledTimes(1)
+    expect(storage.changes.size).toBe(0)
+    expect(queue.pendingCount.value).toBe(0)
+    queue.dispose()
+  })
+
+  it('when a field changes again while its first change is on the way, then the second is based on the version the first produced', async () => {
+    let release: (v: { version: number }) => void = () => undefined
+    const send = vi
+      .fn()
+      .mockImplementationOnce(() => new Promise((r) => (release = r)))
+      .mockResolvedValue({ version: 6 })
+    const { queue } = setup(send)
+    await queue.load()
+    await queue.enqueue('reading', 'chwLeaving', reading(44), 4)
+    await vi.advanceTimersByTimeAsync(600)
+    expect(send).toHaveBeenCalledTimes(1)
+    await queue.enqueue('reading', 'chwLeaving', reading(44.2), 4)
+    release({ version: 5 })
+    await vi.advanceTimersByTimeAsync(600)
+    expect(send).toHaveBeenCalledTimes(2)
+    expect(send.mock.calls[1][0].body).toMatchObject({ baseVersion: 5, entry: { value: 44.2, unit: 'psid' } })
+    queue.dispose()
+  })
+
+  it('when the page is reloaded with changes kept, then a new queue on the same storage sends them in order with their change ids', async () => {
+    const failing = vi.fn().mockRejectedValue(network())
+    const before = setup(failing)
+    await before.queue.load()
+    const a = await before.queue.enqueue('reading', 'voltsAB', reading(461), 0)
+    const b = await before.queue.enqueue('reading', 'voltsBC', reading(459), 0)
+    await vi.advanceTimersByTimeAsync(700)
+    before.queue.dispose()
+    expect(storage.changes.size).toBe(2)
+
+    const send = vi.fn().mockResolvedValue({ version: 1 })
+    const after = setup(send)
+    const restored = await after.queue.load()
+    expect(restored.map((c) => c.changeId)).toEqual([a.changeId, b.changeId])
+    await vi.advanceTimersByTimeAsync(0)
+    expect(send.mock.calls.map((c) => c[0].changeId)).toEqual([a.changeId, b.changeId])
+    expect(storage.changes.size).toBe(0)
+    after.queue.dispose()
+  })
+
+  it('when the sign-in has ended (401), then the change is kept for after signing in again', async () => {
+    const send = vi.fn().mockRejectedValue(new RunApiError(401, 'not_signed_in', 'Sign in to continue', {}, null))
+    const { queue, onRejected } = setup(send)
+    await queue.load()
+    await queue.enqueue('reading', 'chwFlow', reading(1200), 0)
+    await vi.advanceTimersByTimeAsync(600)
+    expect(queue.status.value).toBe('signed_out')
+    expect(storage.changes.size).toBe(1)
+    expect(onRejected).not.toHaveBeenCalled()
+    queue.dispose()
+  })
+})
