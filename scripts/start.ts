@@ -24,6 +24,7 @@ import {
 import { createDataSource } from '../server/db/data-source'
 import { isEmpty, loadDemoData } from '../server/db/demo-data'
 import { startServer, type RunningServer } from '../server/index'
+import { startSmtpCapture } from '../server/mail/smtp-capture'
 
 const root = path.resolve(import.meta.dirname, '..')
 const dev = process.argv.includes('--dev')
@@ -134,6 +135,13 @@ function buildClientIfStale(distDir: string): void {
 async function main() {
   const external = Boolean(process.env.DATABASE_URL)
   const { url, cluster } = external ? { url: process.env.DATABASE_URL!, cluster: null } : await prepareLocalCluster()
+  // Without a mail relay configured, mail goes to a capture server on loopback; the Outbox page shows what was sent.
+  let capture: Awaited<ReturnType<typeof startSmtpCapture>> | null = null
+  if (!process.env.SMTP_URL) {
+    capture = await startSmtpCapture(Number(process.env.SMTP_CAPTURE_PORT ?? 0))
+    process.env.SMTP_URL = capture.url
+    log(`mail is captured locally on ${capture.url} (set SMTP_URL to send through a real relay)`)
+  }
   const config = loadConfig({ ...process.env, DATABASE_URL: url, ...(dev ? { PORT: process.env.API_PORT ?? '3001' } : {}) })
   await migrateAndSeed(url)
 
@@ -146,6 +154,7 @@ async function main() {
     log(`${signal}: stopping …`)
     for (const child of children) child.kill('SIGTERM')
     if (server) await server.close().catch((err) => console.error(err))
+    await capture?.close()
     if (cluster?.startedHere) {
       stopCluster(cluster.bin, cluster.dataDir, 'fast')
       log('PostgreSQL stopped')

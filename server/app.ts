@@ -13,6 +13,7 @@ import { requireAuth } from './middleware/auth'
 import { PostgresRateLimitStore } from './middleware/pg-rate-limit-store'
 import { equipmentRoutes } from './routes/equipment.routes'
 import { projectRoutes } from './routes/project.routes'
+import { outboxRoutes } from './routes/outbox.routes'
 import { runRoutes } from './routes/run.routes'
 import { templateRoutes } from './routes/template.routes'
 import { SESSION_COOKIE, sessionRoutes } from './routes/session.routes'
@@ -21,6 +22,8 @@ import { EquipmentService } from './services/equipment.service'
 import { FindingService } from './services/finding.service'
 import { ProjectService } from './services/project.service'
 import { RunService } from './services/run.service'
+import { SigningService } from './services/signing.service'
+import { MailService } from './mail/mail.service'
 import { LocalDiskStorage, StorageService } from './storage/storage'
 import { TemplateService } from './services/template.service'
 import { UserService } from './services/user.service'
@@ -45,7 +48,10 @@ export function createApp({ config, db }: AppDeps): Express {
   const runs = new RunService(db, projects)
   const findings = new FindingService(db, runs, storage)
   runs.findings = findings
-  const runRouters = runRoutes(config, runs, findings)
+  const mail = new MailService(db, storage, { smtpUrl: config.SMTP_URL, from: config.MAIL_FROM })
+  const signing = new SigningService(db, runs, findings, mail, config.PUBLIC_URL)
+  const runRouters = runRoutes(config, runs, findings, signing)
+  app.locals.services = { mail, signing, runs, findings, storage }
   const passport = createPassport(users)
   const PgStore = connectPgSimple(session)
   // The sessions share TypeORM's pg pool: one pool per process, and it reconnects by itself after an outage.
@@ -96,6 +102,7 @@ export function createApp({ config, db }: AppDeps): Express {
   api.use('/equipment/:equipmentId/runs', requireAuth, runRouters.byEquipment)
   api.use('/equipment', requireAuth, equipmentRouters.byId)
   api.use('/runs', requireAuth, runRouters.byId)
+  api.use('/outbox', requireAuth, outboxRoutes(db))
   api.use('/templates', requireAuth, templateRoutes(templates))
   api.use(notFoundHandler)
   api.use(errorHandler)

@@ -3,6 +3,7 @@ import { ConfigError, loadConfig, type Config } from './config'
 import { createApp } from './app'
 import { createDataSource } from './db/data-source'
 import { ensureStarterLibrary } from './services/starter-library'
+import type { MailService } from './mail/mail.service'
 
 export interface RunningServer {
   server: Server
@@ -24,6 +25,8 @@ export async function startServer(config: Config): Promise<RunningServer> {
   const added = await ensureStarterLibrary(db)
   if (added) console.log(`Added ${added} starter template${added === 1 ? '' : 's'} to the library`)
   const app = createApp({ config, db })
+  const mail = (app.locals.services as { mail: MailService }).mail
+  mail.startWorker()
   const server = await new Promise<Server>((resolve, reject) => {
     const s = app.listen(config.PORT, config.HOST, () => resolve(s))
     s.once('error', reject)
@@ -35,6 +38,7 @@ export async function startServer(config: Config): Promise<RunningServer> {
     async close() {
       server.closeAllConnections()
       await new Promise<void>((resolve) => server.close(() => resolve()))
+      await mail.stop()
       await db.destroy()
     },
   }

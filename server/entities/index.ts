@@ -4,6 +4,7 @@ import { ChecklistTemplate } from './checklist-template.entity'
 import { Equipment } from './equipment.entity'
 import { Finding } from './finding.entity'
 import { Organization } from './organization.entity'
+import { OutboundMail } from './outbound-mail.entity'
 import { Project } from './project.entity'
 import { ProjectMember } from './project-member.entity'
 import { Reading } from './reading.entity'
@@ -11,11 +12,12 @@ import { Run } from './run.entity'
 import { RunAttachment } from './run-attachment.entity'
 import { RunChange } from './run-change.entity'
 import { RunStep } from './run-step.entity'
+import { Signature } from './signature.entity'
 import { TemplateVersion } from './template-version.entity'
 import { User } from './user.entity'
 
-export { Attachment, AuditEvent, ChecklistTemplate, Equipment, Finding, Organization, Project, ProjectMember, Reading, Run, RunAttachment, RunChange, RunStep, TemplateVersion, User }
+export { Attachment, AuditEvent, ChecklistTemplate, Equipment, Finding, Organization, OutboundMail, Project, ProjectMember, Reading, Run, RunAttachment, RunChange, RunStep, Signature, TemplateVersion, User }
 export const entities = [
   Organization, User, Project, ProjectMember, AuditEvent, Attachment, Equipment, ChecklistTemplate, TemplateVersion,
-  Run, Reading, RunStep, RunChange, Finding, RunAttachment,
+  Run, Reading, RunStep, RunChange, Finding, RunAttachment, Signature, OutboundMail,
 ]

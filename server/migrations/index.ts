@@ -2,6 +2,7 @@ import { Foundation1764633600000 } from './1764633600000-Foundation'
 import { RateLimit1764633700000 } from './1764633700000-RateLimit'
 import { EquipmentAndTemplates1764640800000 } from './1764640800000-EquipmentAndTemplates'
 import { Runs1764648000000 } from './1764648000000-Runs'
+import { SignaturesAndMail1764655200000 } from './1764655200000-SignaturesAndMail'
 
 /** Every migration in order. Listed by hand so tsx, Vitest and the CLI all load the same classes without a glob. */
-export const migrations = [Foundation1764633600000, RateLimit1764633700000, EquipmentAndTemplates1764640800000, Runs1764648000000]
+export const migrations = [Foundation1764633600000, RateLimit1764633700000, EquipmentAndTemplates1764640800000, Runs1764648000000, SignaturesAndMail1764655200000]

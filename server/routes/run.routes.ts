@@ -11,7 +11,9 @@ import {
   readingParamsSchema,
   runCreateSchema,
   runListQuerySchema,
+  returnSchema,
   runParamsSchema,
+  signSchema,
   stepChangeSchema,
   stepParamsSchema,
 } from '@shared/schemas/run'
@@ -22,6 +24,7 @@ import { currentUser } from '../middleware/auth'
 import { validate } from '../middleware/validate'
 import { RUN_FILE_TYPES, type FindingService } from '../services/finding.service'
 import type { RunService } from '../services/run.service'
+import type { SigningService } from '../services/signing.service'
 
 const equipmentParams = yup.object({ equipmentId: uuidSchema.label('equipmentId') })
 
@@ -47,7 +50,7 @@ function fileUpload(maxMb: number): RequestHandler {
 }
 
 /** `/api/equipment/:equipmentId/runs` (start, list) and `/api/runs/…` (the run, its readings, steps, findings, files, review). */
-export function runRoutes(config: Config, runs: RunService, findings: FindingService): { byEquipment: Router; byId: Router } {
+export function runRoutes(config: Config, runs: RunService, findings: FindingService, signing: SigningService): { byEquipment: Router; byId: Router } {
   const byEquipment = Router({ mergeParams: true })
   byEquipment.post('/', validate({ params: equipmentParams, body: runCreateSchema }), async (req, res) => {
     res.status(201).json({ run: await runs.start(currentUser(req), String(req.params.equipmentId), req.body.templateId) })
@@ -101,6 +104,20 @@ export function runRoutes(config: Config, runs: RunService, findings: FindingSer
 
   byId.get('/:runId/review', validate({ params: runParamsSchema }), async (req, res) => {
     res.json({ review: await findings.review(currentUser(req), runId(req)) })
+  })
+
+  byId.post('/:runId/sign', validate({ params: runParamsSchema, body: signSchema }), async (req, res) => {
+    res.status(201).json({ signature: await signing.sign(currentUser(req), runId(req), req.body) })
+  })
+
+  byId.post('/:runId/return', validate({ params: runParamsSchema, body: returnSchema }), async (req, res) => {
+    await signing.returnRun(currentUser(req), runId(req), req.body)
+    res.json({ run: await runs.detail(currentUser(req), runId(req)) })
+  })
+
+  byId.get('/:runId/signatures', validate({ params: runParamsSchema }), async (req, res) => {
+    await runs.context(currentUser(req), runId(req))
+    res.json({ signatures: await signing.list(runId(req)) })
   })
 
   byId.get('/:runId/audit', validate({ params: runParamsSchema }), async (req, res) => {

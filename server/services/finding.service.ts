@@ -8,6 +8,7 @@ import { AppError } from '../errors/app-error'
 import { Attachment, Finding, Reading, RunAttachment, RunStep, User } from '../entities'
 import type { StorageService } from '../storage/storage'
 import { recordAudit } from './audit.service'
+import { runSnapshot } from './signing.service'
 import { fieldPlaces, progressOf, type RunContext, type RunService } from './run.service'
 
 /** What may be attached to a run: photos and PDFs, recognised by their bytes, not by the name a browser gave them. */
@@ -220,6 +221,7 @@ export class FindingService {
       openFindings: findings.filter((f) => f.status === 'open'),
       canSign: blockers.length === 0,
       blockers,
+      snapshotSha256: (await runSnapshot(this.db.manager, runId)).sha256,
     }
   }
 }

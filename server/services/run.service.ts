@@ -18,9 +18,10 @@ import {
   type RunSummary,
 } from '@shared/types/run'
 import { AppError } from '../errors/app-error'
-import { ChecklistTemplate, Equipment, Project, Reading, Run, RunChange, RunStep, TemplateVersion, User } from '../entities'
+import { ChecklistTemplate, Equipment, Project, Reading, Run, RunChange, RunStep, Signature, TemplateVersion, User } from '../entities'
 import { fieldErrors } from '../middleware/validate'
 import { recordAudit } from './audit.service'
+import { signatureRecord } from './signing.service'
 import type { FindingService } from './finding.service'
 import type { ProjectService } from './project.service'
 
@@ -282,6 +283,7 @@ export class RunService {
       steps: Object.fromEntries(stepViews.map((s) => [s.stepId, s])),
       findings: this.findings ? await this.findings.listViews(runId) : [],
       attachments: this.findings ? await this.findings.attachmentViews(runId) : [],
+      signatures: (await this.db.getRepository(Signature).find({ where: { runId }, order: { signedAt: 'ASC' } })).map(signatureRecord),
     }
   }
 

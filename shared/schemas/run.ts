@@ -103,3 +103,31 @@ export const runListQuerySchema = yup
     mine: yup.boolean().optional(),
   })
   .noUnknown()
+
+/** A drawn signature from signature_pad: a PNG data URL of a sensible size. */
+const signatureImage = yup
+  .string()
+  .required('Draw your signature')
+  .matches(/^data:image\/png;base64,[A-Za-z0-9+/]+=*$/, 'The signature must be a PNG image')
+  .max(400_000, 'The signature image is too large')
+
+/** `POST /api/runs/:runId/sign`: the signer's password again (two components at signing, 21 CFR 11.200), meaning and drawing. */
+export const signSchema = yup
+  .object({
+    meaning: yup.mixed<'performed_by' | 'accepted_by'>().required('State what the signature means').oneOf(['performed_by', 'accepted_by'], 'Meaning must be performed_by or accepted_by'),
+    password: yup.string().required('Enter your password to sign').max(200),
+    signatureImage,
+    /** The SHA-256 of the run as the signer reviewed it (from the review summary); a run that changed since is refused. */
+    snapshotSha256: yup.string().required('snapshotSha256 is required').matches(/^[0-9a-f]{64}$/, 'snapshotSha256 must be 64 hex digits'),
+  })
+  .noUnknown()
+export type SignInput = yup.InferType<typeof signSchema>
+
+/** `POST /api/runs/:runId/return`: the owner's representative sends the run back with comments. */
+export const returnSchema = yup
+  .object({
+    comments: yup.string().trim().required('Say what must change').min(3, 'Say what must change').max(4000, 'Comments must be at most 4000 characters'),
+    password: yup.string().required('Enter your password to return the run').max(200),
+  })
+  .noUnknown()
+export type ReturnInput = yup.InferType<typeof returnSchema>

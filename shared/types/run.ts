@@ -2,6 +2,7 @@ import type { ChecklistDefinition } from '../schemas/checklist'
 import type { FieldEntry } from '../schemas/reading'
 import type { FieldEvaluation } from '../rules/evaluate'
 import type { AttachmentSummary } from './api'
+import type { SignatureRecord } from './report'
 
 /** DESIGN.md §6: in_progress → submitted (performer signed) → accepted, or returned to the technician. */
 export type RunState = 'in_progress' | 'submitted' | 'accepted' | 'returned'
@@ -102,6 +103,8 @@ export interface RunDetail extends RunSummary {
   steps: Record<string, RunStepState>
   findings: FindingSummary[]
   attachments: RunAttachment[]
+  /** Signatures on the run, voided ones included (they stay on record). */
+  signatures: SignatureRecord[]
 }
 
 /** Answer of `PUT /api/runs/:runId/readings/:fieldId`: the field, and every field again (computed ones follow). */
@@ -140,4 +143,6 @@ export interface RunReview {
   /** Fails with neither a finding nor a justification, and missing required values, block signing. */
   canSign: boolean
   blockers: string[]
+  /** SHA-256 of the run's canonical snapshot now: send it back when signing, so a run that changed meanwhile is refused. */
+  snapshotSha256: string
 }

@@ -1,0 +1,610 @@
+import { DEFER } from '@shared/library/cautions'
+import { classify, worstVerdict, type FieldEvaluation, type Verdict } from '@shared/rules'
+import type { ChecklistField, ChecklistSection, ChecklistStep, RampRule } from '@shared/schemas/checklist'
+import { DESIGN_POINT_QUANTITIES, EQUIPMENT_KIND_LABELS, isDesignPointKey, isEquipmentKind, type DesignPointKey } from '@shared/schemas/design-point'
+import type { SeriesEntry } from '@shared/schemas/reading'
+import type { ReportInput, SignatureRecord } from '@shared/types/report'
+import type { FindingSummary, RunReading } from '@shared/types/run'
+import { convert, displayUnit, formatNumber, formatQuantity, fromCanonical, unitLabel, type QuantityKind, type UnitSystem } from '@shared/units'
+// The design-point rows the equipment pages show, in the project's units (pure functions; no Vue inside).
+import { designPointRows } from '../../client/composables/useDesignPoint'
+
+/** A verdict as printed: its key (for the shape) and its word. */
+export interface VerdictView {
+  key: Verdict
+  word: string
+}
+
+export interface FieldRowView {
+  id: string
+  label: string
+  value: string
+  /** Long free text is printed as a paragraph under the label instead of in the value column. */
+  longText: boolean
+  limits: string
+  verdict: VerdictView | null
+  message: string
+  notApplicable: boolean
+  naReason: string | null
+  justification: string | null
+  findingRefs: string[]
+}
+
+export interface StepView {
+  id: string
+  title: string
+  fields: FieldRowView[]
+  note: string
+  notApplicable: boolean
+  naReason: string | null
+  cautions: string[]
+}
+
+export interface SectionView {
+  id: string
+  title: string
+  steps: StepView[]
+}
+
+export interface ProblemView {
+  where: string
+  label: string
+  verdict: VerdictView
+  message: string
+  findingRefs: string[]
+  justification: string | null
+}
+
+export interface DesignRowView {
+  designLabel: string
+  designText: string
+  measuredLabel: string
+  measuredText: string
+  deviation: string
+  verdict: VerdictView | null
+  /** The first row of a design value that several readings relate to (the others leave the design cells empty). */
+  first: boolean
+}
+
+export interface TimingRowView {
+  label: string
+  value: string
+  limits: string
+  verdict: VerdictView | null
+}
+
+export interface RampView {
+  label: string
+  unit: string
+  points: Array<[number, number]>
+  setpoint: number | null
+  floor: number | null
+  warnFloor: number | null
+  reachWithinS: number | null
+  holdS: number | null
+  reachedAtS: number | null
+  driveStartS: number | null
+  verdict: VerdictView
+  message: string
+}
+
+export interface FindingView {
+  ref: string
+  severity: string
+  status: string
+  open: boolean
+  description: string
+  where: string
+  raised: string
+  resolution: string | null
+  resolved: string | null
+  photoRefs: string[]
+}
+
+export interface PhotoView {
+  ref: string
+  dataUrl: string
+  caption: string
+  detail: string
+}
+
+export interface SignatureView {
+  meaningLabel: string
+  printedName: string
+  role: string
+  signedAtUtc: string
+  signedAtLocal: string
+  imageDataUrl: string | null
+  snapshotSha256: string
+  voided: boolean
+  voidedAt: string | null
+  voidReason: string | null
+}
+
+export interface ReportView {
+  reportNumber: string
+  organizationName: string
+  title: string
+  paper: 'A4' | 'Letter'
+  project: { name: string; code: string; siteName: string; siteAddress: string; timeZone: string; unitSystem: string }
+  equipment: { tag: string; kindLabel: string; location: string; nameplate: Array<{ label: string; value: string }> }
+  run: { id: string; template: string; state: string; startedAt: string; lastReadingAt: string; acceptedAt: string | null; performedBy: string | null; acceptedBy: string | null }
+  generatedAt: string
+  overall: VerdictView
+  counts: Array<{ verdict: VerdictView | null; word: string; count: number }>
+  countedFields: number
+  problems: ProblemView[]
+  missing: ProblemView[]
+  openFindingCount: number
+  designRows: DesignRowView[]
+  ramp: RampView | null
+  timings: TimingRowView[]
+  electrical: FieldRowView[]
+  waterSide: Array<{ title: string; rows: FieldRowView[] }>
+  sections: SectionView[]
+  findings: FindingView[]
+  photos: PhotoView[]
+  otherAttachments: Array<{ name: string; where: string }>
+  recommendations: string[]
+  handoverTasks: FieldRowView[]
+  cautions: string[]
+  deferStatement: string
+  signatures: SignatureView[]
+  verification: { contentSha256: string; verifyUrl: string; generatedAtUtc: string }
+}
+
+const VERDICT_WORDS: Record<Verdict, string> = { pass: 'Pass', marginal: 'Marginal', fail: 'Fail', incomplete: 'Incomplete' }
+const verdictView = (v: Verdict): VerdictView => ({ key: v, word: VERDICT_WORDS[v] })
+
+const SEVERITY_WORDS: Record<FindingSummary['severity'], string> = { minor: 'Minor', major: 'Major', critical: 'Critical' }
+const STATE_WORDS: Record<string, string> = { in_progress: 'In progress', submitted: 'Submitted, awaiting acceptance', accepted: 'Accepted', returned: 'Returned to the technician' }
+
+/** "2026-12-01 16:42 CST": an instant in a time zone, to the minute, with the zone's short name. */
+export function dateTimeIn(iso: string | null | undefined, timeZone: string): string {
+  if (!iso) return '—'
+  const date = new Date(iso)
+  if (Number.isNaN(date.getTime())) return '—'
+  let parts: Intl.DateTimeFormatPart[]
+  try {
+    parts = new Intl.DateTimeFormat('en-US', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit', hour: '2-digit', minute: '2-digit', hourCycle: 'h23', timeZoneName: 'short' }).formatToParts(date)
+  } catch {
+    return dateTimeIn(iso, 'UTC')
+  }
+  const p = (type: Intl.DateTimeFormatPartTypes) => parts.find((x) => x.type === type)?.value ?? ''
+  return `${p('year')}-${p('month')}-${p('day')} ${p('hour')}:${p('minute')} ${p('timeZoneName')}`
+}
+
+const utc = (iso: string | null | undefined) => dateTimeIn(iso, 'UTC')
+
+// Only pictures embedded as base64 data URLs are printed; anything else (a link, a file path) is left out.
+const IMAGE_DATA_URL = /^data:image\/(png|jpeg|webp|gif);base64,[A-Za-z0-9+/=\r\n]+$/
+const safeImage = (url: string | null | undefined): string | null => (url && IMAGE_DATA_URL.test(url) ? url : null)
+
+interface Context {
+  input: ReportInput
+  system: UnitSystem
+  fields: Map<string, { field: ChecklistField; step: ChecklistStep; section: ChecklistSection }>
+  findingRefs: Map<string, string>
+  photoRefs: Map<string, string>
+}
+
+function quantityText(value: number, unit: string, kind: QuantityKind): string {
+  return formatQuantity(value, unit, kind)
+}
+
+/** The limits of an evaluation in words, in the project's display unit. */
+function limitsInWords(field: ChecklistField, evaluation: FieldEvaluation | undefined): string {
+  const rule = field.rule
+  if (!rule) return field.computed ? 'Computed; no limit' : 'Recorded; no limit'
+  if (rule.type === 'yes_no') return `${rule.expected ? 'Yes' : 'No'} required`
+  if (rule.type === 'choice') {
+    const label = (v: string) => field.choices?.find((c) => c.value === v)?.label ?? v
+    const pass = rule.pass.map(label).join('; ')
+    const marginal = rule.marginal?.length ? `; with reservations: ${rule.marginal.map(label).join('; ')}` : ''
+    return `Acceptable: ${pass}${marginal}`
+  }
+  const limits = evaluation?.limits
+  if (!limits) return evaluation?.problem ? evaluation.problem.message : '—'
+  const kind = field.quantity as QuantityKind
+  const unit = limits.display.unit
+  const q = (v: number) => quantityText(v, unit, kind)
+  if (rule.type === 'ramp') {
+    const s = (v: number) => `${formatNumber(v, 1)} s`
+    const setpoint = convert(rule.setpoint, field.unit as string, unit, kind)
+    const parts = [`reach ${q(setpoint)} within ${s(rule.reachWithinS)}`]
+    if (rule.reachNotBeforeS !== undefined) parts.push(`not before ${s(rule.reachNotBeforeS)}`)
+    if (rule.holdS) parts.push(`hold at or above it ${s(rule.holdS)} before the drive starts`)
+    if (limits.display.min !== undefined) parts.push(`never below ${q(limits.display.min)} after`)
+    if (limits.display.warnMin !== undefined) parts.push(`marginal below ${q(limits.display.warnMin)}`)
+    return capitalise(parts.join('; '))
+  }
+  const { min, max, warnMin, warnMax } = limits.display
+  const parts: string[] = []
+  if (min !== undefined && max !== undefined) parts.push(`${q(min)} to ${q(max)}`)
+  else if (min !== undefined) parts.push(`at least ${q(min)}`)
+  else if (max !== undefined) parts.push(`at most ${q(max)}`)
+  const warn: string[] = []
+  if (warnMin !== undefined) warn.push(`below ${q(warnMin)}`)
+  if (warnMax !== undefined) warn.push(`above ${q(warnMax)}`)
+  if (warn.length) parts.push(`marginal ${warn.join(' or ')}`)
+  const basis = limits.basis ? ` (${limits.basis})` : ''
+  return capitalise(`${parts.join('; ')}${basis}`)
+}
+
+const capitalise = (s: string) => (s ? s[0].toUpperCase() + s.slice(1) : s)
+
+function seriesEntry(reading: RunReading | undefined): SeriesEntry | null {
+  const e = reading?.entry as SeriesEntry | null | undefined
+  return e && Array.isArray(e.value) && typeof e.unit === 'string' ? e : null
+}
+
+/** The value of a field as printed: number with unit, Yes/No, the choice's words, the text, photo count. */
+function valueText(field: ChecklistField, reading: RunReading | undefined): string {
+  const evaluation = reading?.evaluation
+  if (!reading || !evaluation) return 'Not recorded'
+  if (reading.notApplicable) return 'Not applicable'
+  if (field.kind === 'time_series') {
+    const e = seriesEntry(reading)
+    if (!e) return 'Not recorded'
+    const drive = e.driveStartS === undefined ? '' : `, drive start at ${formatNumber(e.driveStartS, 1)} s`
+    return `${e.value.length} readings over ${formatNumber(e.value[e.value.length - 1][0], 1)} s${drive}`
+  }
+  if (evaluation.display) return evaluation.display.text
+  const answer = evaluation.answer
+  if (typeof answer === 'boolean') return answer ? 'Yes' : 'No'
+  if (field.kind === 'choice' && typeof answer === 'string') return field.choices?.find((c) => c.value === answer)?.label ?? answer
+  if (field.kind === 'photo' && Array.isArray(answer)) return `${answer.length} photo${answer.length === 1 ? '' : 's'} attached`
+  if (typeof answer === 'string') return answer
+  return evaluation.verdict === 'incomplete' ? (field.required === false ? 'Not recorded (optional)' : 'Not recorded') : '—'
+}
+
+function fieldRow(ctx: Context, id: string): FieldRowView | null {
+  const place = ctx.fields.get(id)
+  if (!place) return null
+  const { field, step } = place
+  const reading = ctx.input.run.readings[id]
+  const stepNa = ctx.input.run.steps[step.id]?.notApplicable ?? false
+  const notApplicable = Boolean(reading?.notApplicable) || stepNa
+  const evaluation = reading?.evaluation
+  const refs = ctx.input.run.findings.filter((f) => f.fieldId === id).map((f) => ctx.findingRefs.get(f.id) as string)
+  return {
+    id,
+    label: field.label,
+    value: notApplicable ? 'Not applicable' : valueText(field, reading),
+    longText: field.kind === 'text' && !notApplicable && typeof evaluation?.answer === 'string' && evaluation.answer.length > 0,
+    limits: limitsInWords(field, evaluation),
+    verdict: notApplicable || !evaluation ? null : verdictView(evaluation.verdict),
+    message: evaluation?.message ?? '',
+    notApplicable,
+    naReason: reading?.naReason ?? (stepNa ? ctx.input.run.steps[step.id]?.naReason ?? null : null),
+    justification: reading?.justification ?? null,
+    findingRefs: refs,
+  }
+}
+
+const rows = (ctx: Context, ids: string[]) => ids.map((id) => fieldRow(ctx, id)).filter((r): r is FieldRowView => r !== null)
+
+function whereOf(ctx: Context, stepId: string, fieldId: string | null): string {
+  for (const section of ctx.input.run.definition.sections) {
+    const step = section.steps.find((s) => s.id === stepId)
+    if (!step) continue
+    const field = fieldId ? step.fields.find((f) => f.id === fieldId) : undefined
+    return [section.title, step.title, field?.label].filter(Boolean).join(' › ')
+  }
+  return stepId
+}
+
+// Readings that relate to design values without an acceptance rule naming them (the starter template's ids).
+const RELATED_WITHOUT_RULE: Partial<Record<DesignPointKey, string[]>> = { inputPower: ['inputKw'] }
+
+function designRows(ctx: Context): DesignRowView[] {
+  const { equipment } = ctx.input
+  if (!isEquipmentKind(equipment.kind)) return []
+  const out: DesignRowView[] = []
+  for (const row of designPointRows(equipment.designPoint, equipment.kind, ctx.system)) {
+    if (row.value === null) continue
+    const kind = DESIGN_POINT_QUANTITIES[row.key]
+    const related: ChecklistField[] = []
+    for (const { field } of ctx.fields.values()) {
+      const rule = field.rule
+      if (rule && (rule.type === 'design' || rule.type === 'design_offset') && rule.key === row.key && field.quantity === kind) related.push(field)
+    }
+    for (const id of RELATED_WITHOUT_RULE[row.key] ?? []) {
+      const place = ctx.fields.get(id)
+      if (place && place.field.quantity === kind && !related.includes(place.field)) related.push(place.field)
+    }
+    if (!related.length) {
+      out.push({ designLabel: row.label, designText: row.text, measuredLabel: 'Not measured in this checklist', measuredText: '—', deviation: '—', verdict: null, first: true })
+      continue
+    }
+    related.forEach((field, i) => {
+      const reading = ctx.input.run.readings[field.id]
+      const evaluation = reading?.evaluation
+      const canonicalValue = reading?.notApplicable ? null : evaluation?.canonical ?? null
+      let measuredText = reading?.notApplicable ? 'Not applicable' : 'Not recorded'
+      let deviation = '—'
+      if (canonicalValue) {
+        const measured = fromCanonical(canonicalValue.value, row.unit, kind)
+        measuredText = formatQuantity(measured, row.unit, kind)
+        const design = row.value as number
+        if (kind === 'temperature') {
+          const diffUnit = displayUnit('temperature_difference', ctx.system)
+          const diff = measured - design
+          deviation = `${diff > 0 ? '+' : diff < 0 ? '−' : ''}${formatNumber(Math.abs(diff), 1)} ${unitLabel('temperature_difference', diffUnit)}`
+        } else if (design !== 0) {
+          const pct = ((measured - design) / Math.abs(design)) * 100
+          deviation = `${pct > 0 ? '+' : pct < 0 ? '−' : ''}${formatNumber(Math.abs(pct), 1)} %`
+        }
+      }
+      out.push({
+        designLabel: i === 0 ? row.label : '',
+        designText: i === 0 ? row.text : '',
+        measuredLabel: field.label,
+        measuredText,
+        deviation,
+        verdict: evaluation && !reading?.notApplicable ? verdictView(evaluation.verdict) : null,
+        first: i === 0,
+      })
+    })
+  }
+  return out
+}
+
+function rampView(ctx: Context): RampView | null {
+  const place = ctx.fields.get('oilPressureRamp') ?? [...ctx.fields.values()].find((p) => p.field.kind === 'time_series' && p.field.rule?.type === 'ramp')
+  if (!place) return null
+  const reading = ctx.input.run.readings[place.field.id]
+  const entry = seriesEntry(reading)
+  const evaluation = reading?.evaluation
+  if (!entry || !evaluation || reading?.notApplicable) return null
+  const kind = place.field.quantity as QuantityKind
+  const shown = evaluation.series?.unit ?? displayUnit(kind, ctx.system)
+  const rule = place.field.rule as RampRule
+  const toShown = (v: number | undefined) => (v === undefined ? null : convert(v, place.field.unit as string, shown, kind))
+  return {
+    label: place.field.label,
+    unit: unitLabel(kind, shown),
+    points: entry.value.map(([t, v]) => [t, convert(v, entry.unit, shown, kind)]),
+    setpoint: toShown(rule.setpoint),
+    floor: toShown(rule.floor),
+    warnFloor: toShown(rule.warnFloor),
+    reachWithinS: rule.reachWithinS,
+    holdS: rule.holdS ?? null,
+    reachedAtS: evaluation.series?.timeToSetpointS ?? null,
+    driveStartS: entry.driveStartS ?? null,
+    verdict: verdictView(evaluation.verdict),
+    message: evaluation.message,
+  }
+}
+
+function timingRows(ctx: Context, ramp: RampView | null): TimingRowView[] {
+  const out: TimingRowView[] = []
+  const fromField = (id: string) => {
+    const r = fieldRow(ctx, id)
+    if (r) out.push({ label: r.label, value: r.value, limits: r.limits, verdict: r.verdict })
+  }
+  fromField('prelubeTime')
+  const place = ctx.fields.get('oilPressureRamp')
+  const series = place ? ctx.input.run.readings.oilPressureRamp?.evaluation.series : undefined
+  if (ramp && series && place?.field.rule?.type === 'ramp') {
+    const rule = place.field.rule
+    const s = (v: number) => `${formatNumber(v, 1)} s`
+    const q = (v: number) => `${formatNumber(v, 1)} ${ramp.unit}`
+    const reached = series.timeToSetpointS
+    const reachOk = reached !== null && reached <= rule.reachWithinS + 1e-9 && (rule.reachNotBeforeS === undefined || reached >= rule.reachNotBeforeS)
+    out.push({
+      label: `Time to the oil pressure setpoint (${q(ramp.setpoint as number)})`,
+      value: reached === null ? 'Never reached' : s(reached),
+      limits: `Within ${s(rule.reachWithinS)}${rule.reachNotBeforeS !== undefined ? `, not before ${s(rule.reachNotBeforeS)}` : ''}`,
+      verdict: verdictView(reachOk ? 'pass' : 'fail'),
+    })
+    if (rule.holdS) {
+      out.push({
+        label: 'Hold at or above the setpoint before the drive started',
+        value: s(series.holdAchievedS),
+        limits: `At least ${s(rule.holdS)}`,
+        verdict: verdictView(series.holdAchievedS >= rule.holdS - 1e-9 ? 'pass' : 'fail'),
+      })
+    }
+    if (ramp.floor !== null || ramp.warnFloor !== null) {
+      const min = series.minimumAfterSetpoint
+      const limits = [ramp.floor !== null ? `not below ${q(ramp.floor)}` : null, ramp.warnFloor !== null ? `marginal below ${q(ramp.warnFloor)}` : null].filter(Boolean).join('; ')
+      out.push({
+        label: 'Lowest oil pressure after reaching the setpoint',
+        value: min === null ? '—' : q(min),
+        limits: capitalise(limits),
+        verdict: min === null ? verdictView('fail') : verdictView(classify(min, { min: ramp.floor ?? undefined, warnMin: ramp.warnFloor ?? undefined }).verdict),
+      })
+    }
+  }
+  fromField('oilPressureAtDriveStart')
+  fromField('starterRampTime')
+  return out
+}
+
+function collectCautions(sections: ChecklistSection[]): string[] {
+  const seen = new Set<string>()
+  for (const section of sections) {
+    for (const step of section.steps) {
+      for (const c of step.cautions ?? []) seen.add(c)
+      for (const f of step.fields) for (const c of f.cautions ?? []) seen.add(c)
+    }
+  }
+  seen.delete(DEFER)
+  return [...seen]
+}
+
+function signatureView(s: SignatureRecord): SignatureView {
+  return {
+    meaningLabel: s.meaningLabel,
+    printedName: s.printedName,
+    role: s.role,
+    signedAtUtc: utc(s.signedAtUtc),
+    signedAtLocal: s.signedAtLocal || dateTimeIn(s.signedAtUtc, s.timeZone),
+    imageDataUrl: safeImage(s.imageDataUrl),
+    snapshotSha256: s.snapshotSha256,
+    voided: s.voided,
+    voidedAt: s.voidedAt ? utc(s.voidedAt) : null,
+    voidReason: s.voidReason,
+  }
+}
+
+/** Everything the templates print, worked out from the report input: words, units, verdicts, references. */
+export function buildReportView(input: ReportInput): ReportView {
+  const { run, project, equipment } = input
+  const definition = run.definition
+  const system: UnitSystem = run.unitSystem ?? project.unitSystem
+  const tz = project.timeZone
+  const fields = new Map<string, { field: ChecklistField; step: ChecklistStep; section: ChecklistSection }>()
+  for (const section of definition.sections) for (const step of section.steps) for (const field of step.fields) fields.set(field.id, { field, step, section })
+
+  const findingRefs = new Map(run.findings.map((f, i) => [f.id, `F${i + 1}`]))
+  const images = run.attachments.filter((a) => a.mimeType.startsWith('image/') && safeImage(input.photoDataUrls[a.id]))
+  const photoRefs = new Map(images.map((a, i) => [a.id, `Photo ${i + 1}`]))
+  const ctx: Context = { input, system, fields, findingRefs, photoRefs }
+
+  const sections: SectionView[] = definition.sections.map((section) => ({
+    id: section.id,
+    title: section.title,
+    steps: section.steps.map((step) => {
+      const state = run.steps[step.id]
+      return {
+        id: step.id,
+        title: step.title,
+        fields: rows(ctx, step.fields.map((f) => f.id)),
+        note: state?.note ?? '',
+        notApplicable: state?.notApplicable ?? false,
+        naReason: state?.naReason ?? null,
+        cautions: step.cautions ?? [],
+      }
+    }),
+  }))
+
+  const problems: ProblemView[] = []
+  const missing: ProblemView[] = []
+  const counted: Verdict[] = []
+  for (const section of sections) {
+    for (const step of section.steps) {
+      for (const row of step.fields) {
+        if (row.notApplicable || !row.verdict) continue
+        const field = fields.get(row.id)!.field
+        const problem = { where: `${section.title} › ${step.title}`, label: row.label, verdict: row.verdict, message: row.message, findingRefs: row.findingRefs, justification: row.justification }
+        if (field.required !== false || row.verdict.key !== 'incomplete') counted.push(row.verdict.key)
+        if (row.verdict.key === 'fail' || row.verdict.key === 'marginal') problems.push(problem)
+        else if (row.verdict.key === 'incomplete' && field.required !== false) missing.push(problem)
+      }
+    }
+  }
+  problems.sort((a, b) => (a.verdict.key === b.verdict.key ? 0 : a.verdict.key === 'fail' ? -1 : 1))
+
+  const p = run.progress
+  const counts = [
+    { verdict: verdictView('pass'), word: 'Pass', count: p.pass },
+    { verdict: verdictView('marginal'), word: 'Marginal', count: p.marginal },
+    { verdict: verdictView('fail'), word: 'Fail', count: p.fail },
+    { verdict: verdictView('incomplete'), word: 'Incomplete', count: p.incomplete },
+    { verdict: null, word: 'Not applicable', count: p.notApplicable },
+  ]
+
+  const findings: FindingView[] = run.findings.map((f) => ({
+    ref: findingRefs.get(f.id) as string,
+    severity: SEVERITY_WORDS[f.severity] ?? f.severity,
+    status: f.status === 'open' ? 'Open' : 'Resolved',
+    open: f.status === 'open',
+    description: f.description,
+    where: whereOf(ctx, f.stepId, f.fieldId),
+    raised: `${f.createdByName ?? 'Unknown'}, ${dateTimeIn(f.createdAt, tz)}`,
+    resolution: f.resolution,
+    resolved: f.resolvedAt ? `${f.resolvedByName ?? 'Unknown'}, ${dateTimeIn(f.resolvedAt, tz)}` : null,
+    photoRefs: f.attachmentIds.map((id) => photoRefs.get(id)).filter((r): r is string => Boolean(r)),
+  }))
+
+  const photos: PhotoView[] = images.map((a) => {
+    const finding = a.findingId ? findingRefs.get(a.findingId) : undefined
+    return {
+      ref: photoRefs.get(a.id) as string,
+      dataUrl: input.photoDataUrls[a.id],
+      caption: whereOf(ctx, a.stepId, a.fieldId),
+      detail: [finding ? `Finding ${finding}` : null, a.originalName, dateTimeIn(a.createdAt, tz)].filter(Boolean).join(' · '),
+    }
+  })
+  const otherAttachments = run.attachments
+    .filter((a) => !photoRefs.has(a.id))
+    .map((a) => ({ name: a.originalName, where: whereOf(ctx, a.stepId, a.fieldId) }))
+
+  const recommendations: string[] = []
+  for (const f of findings) if (f.open) recommendations.push(`Resolve finding ${f.ref} (${f.severity.toLowerCase()}) and record the re-test: ${f.description}`)
+  for (const pr of problems) if (pr.verdict.key === 'marginal') recommendations.push(`Watch ${pr.label.toLowerCase()}: ${pr.message}.`)
+  const handoverSection = definition.sections.find((s) => s.id === 'handover')
+  const handoverTasks = handoverSection ? handoverSection.steps.flatMap((s) => rows(ctx, s.fields.map((f) => f.id))) : []
+  recommendations.push('Keep this report with the daily logs as the baseline: compare approaches, kW/ton and oil pressure against it.')
+
+  const signatures = input.signatures.map(signatureView)
+  const latest = (meaning: SignatureRecord['meaning']) => [...input.signatures].reverse().find((s) => s.meaning === meaning && !s.voided)
+  const performed = latest('performed_by')
+  const accepted = latest('accepted_by')
+  const lastReadingAt = Object.values(run.readings).reduce<string | null>((acc, r) => (r.updatedAt && (!acc || r.updatedAt > acc) ? r.updatedAt : acc), null)
+
+  const ramp = rampView(ctx)
+  const kindLabel = isEquipmentKind(equipment.kind) ? EQUIPMENT_KIND_LABELS[equipment.kind] : equipment.kind
+  const refrigerant = equipment.refrigerant ?? (typeof equipment.designPoint.refrigerant === 'string' ? equipment.designPoint.refrigerant : null)
+  const nameplate = [
+    { label: 'Manufacturer', value: equipment.manufacturer },
+    { label: 'Model', value: equipment.model },
+    { label: 'Serial number', value: equipment.serialNumber },
+    { label: 'Year built', value: equipment.yearBuilt === null ? '—' : String(equipment.yearBuilt) },
+    ...(refrigerant ? [{ label: 'Refrigerant', value: refrigerant }] : []),
+  ]
+  for (const key of ['capacity', 'voltage', 'fullLoadAmps'] as const) {
+    const stored = equipment.designPoint[key] as { value: number; unit: string } | undefined
+    if (!stored || !isDesignPointKey(key)) continue
+    const kind = DESIGN_POINT_QUANTITIES[key]
+    const unit = displayUnit(kind, system)
+    nameplate.push({ label: key === 'capacity' ? 'Design capacity' : key === 'voltage' ? 'Rated voltage' : 'Full-load amps', value: formatQuantity(fromCanonical(stored.value, unit, kind), unit, kind) })
+  }
+
+  return {
+    reportNumber: input.reportNumber,
+    organizationName: input.organizationName,
+    title: definition.title,
+    paper: input.paper,
+    project: { name: project.name, code: project.code, siteName: project.siteName, siteAddress: project.siteAddress, timeZone: tz, unitSystem: system === 'IP' ? 'I-P (inch-pound)' : 'SI (metric)' },
+    equipment: { tag: equipment.tag, kindLabel, location: equipment.location, nameplate },
+    run: {
+      id: run.id,
+      template: `${run.templateName}, version ${run.templateVersionNumber}`,
+      state: STATE_WORDS[run.state] ?? run.state,
+      startedAt: dateTimeIn(run.startedAt, tz),
+      lastReadingAt: dateTimeIn(lastReadingAt, tz),
+      acceptedAt: accepted ? accepted.signedAtLocal || dateTimeIn(accepted.signedAtUtc, tz) : null,
+      performedBy: performed ? performed.printedName : run.startedByName,
+      acceptedBy: accepted ? accepted.printedName : null,
+    },
+    generatedAt: `${utc(input.generatedAtUtc)} (${dateTimeIn(input.generatedAtUtc, tz)})`,
+    overall: verdictView(worstVerdict(counted)),
+    counts,
+    countedFields: p.required,
+    problems,
+    missing,
+    openFindingCount: run.findings.filter((f) => f.status === 'open').length,
+    designRows: designRows(ctx),
+    ramp,
+    timings: timingRows(ctx, ramp),
+    electrical: rows(ctx, ['voltsAB', 'voltsBC', 'voltsCA', 'voltageUnbalance', 'ampsA', 'ampsB', 'ampsC', 'currentUnbalance', 'inputKw']),
+    waterSide: [
+      { title: 'Evaporator', rows: rows(ctx, ['chwEntering', 'chwLeaving', 'chwFlow', 'chwPressureDrop', 'evapPressure', 'evapSatTemp', 'evapApproach']) },
+      { title: 'Condenser', rows: rows(ctx, ['cwEntering', 'cwLeaving', 'cwFlow', 'cwPressureDrop', 'condPressure', 'condSatTemp', 'condApproach']) },
+      { title: 'Capacity, efficiency and heat balance', rows: rows(ctx, ['capacity', 'condenserHeat', 'specificPower', 'heatBalance', 'chwSetpoint']) },
+    ].filter((g) => g.rows.length > 0),
+    sections,
+    findings,
+    photos,
+    otherAttachments,
+    recommendations,
+    handoverTasks,
+    cautions: collectCautions(definition.sections),
+    deferStatement: DEFER,
+    signatures,
+    verification: { contentSha256: input.contentSha256, verifyUrl: input.verifyUrl, generatedAtUtc: utc(input.generatedAtUtc) },
+  }
+}
