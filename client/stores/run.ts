@@ -50,6 +50,12 @@ export type SaveTone = 'saved' | 'saving' | 'offline' | 'problem' | 'readonly'
 
 const readingContent = (r: LocalReading): LocalReading => ({ entry: r.entry, notApplicable: r.notApplicable, naReason: r.naReason, justification: r.justification })
 const sameJson = (a: unknown, b: unknown) => JSON.stringify(a) === JSON.stringify(b)
+/** JSON with object keys sorted: the database hands entries back with its own key order. */
+function canonicalJson(value: unknown): string {
+  return JSON.stringify(value, (_k, v: unknown) =>
+    v && typeof v === 'object' && !Array.isArray(v) ? Object.fromEntries(Object.entries(v as Record<string, unknown>).sort(([a], [b]) => a.localeCompare(b))) : v,
+  )
+}
 
 /** Opens the queue's storage: IndexedDB, or memory when this browser has none (then the page says so). */
 let storageFactory: () => Promise<QueueStorage> = createIndexedDbQueueStorage
@@ -220,14 +226,27 @@ export const useRunStore = defineStore('run', () => {
     }
   }
 
+  /**
+   * Takes the server's readings, keeping the entry objects already shown where the server holds the same value, so
+   * inputs that compare what they last emitted do not see a "new" value (and drop a row being typed) after each save.
+   */
+  function adoptReadings(next: Record<string, RunReading>): Record<string, RunReading> {
+    const before = run.value?.readings ?? {}
+    for (const [id, r] of Object.entries(next)) {
+      const shown = local.value[id]?.entry ?? before[id]?.entry
+      if (shown && r.entry && canonicalJson(shown) === canonicalJson(r.entry)) r.entry = shown
+    }
+    return next
+  }
+
   function applyReadingSaved(change: QueuedChange, res: ReadingSaved) {
     if (!run.value) return
-    run.value.readings = res.readings
+    run.value.readings = adoptReadings(res.readings)
     run.value.progress = res.progress
     const left = queue.value?.changesFor('reading', change.targetId).length ?? 0
     const mine = local.value[change.targetId]
     const sent = change.body as LocalReading
-    if (!left && mine && sameJson(readingContent(mine), readingContent({ entry: sent.entry ?? null, notApplicable: !!sent.notApplicable, naReason: sent.naReason ?? null, justification: sent.justification ?? null }))) {
+    if (!left && mine && canonicalJson(readingContent(mine)) === canonicalJson(readingContent({ entry: sent.entry ?? null, notApplicable: !!sent.notApplicable, naReason: sent.naReason ?? null, justification: sent.justification ?? null }))) {
       delete local.value[change.targetId]
     }
     scheduleSnapshot()
@@ -295,6 +314,10 @@ export const useRunStore = defineStore('run', () => {
         onSaved: (change, result) => {
           // The server took a change, so it answers again: a session check that failed offline can succeed now.
           if (!session.loaded) void session.ensureLoaded().catch(() => undefined)
+          if (fromDevice.value) {
+            fromDevice.value = false
+            void refresh()
+          }
           const response = (result as { response?: unknown }).response
           if (change.kind === 'reading') applyReadingSaved(change, response as ReadingSaved)
           else applyStepSaved(change, (response as { step: RunStepState }).step)
@@ -332,6 +355,7 @@ export const useRunStore = defineStore('run', () => {
     if (!run.value) return
     try {
       const fresh = await runsApi.get(run.value.id)
+      fresh.readings = adoptReadings(fresh.readings)
       run.value = fresh
       fromDevice.value = false
       scheduleSnapshot()
