@@ -116,6 +116,35 @@ describe('RunFieldRamp', () => {
     expect(judged.message).toContain('less than the 20 s required')
   })
 
+  it('when the hold is still running, then a short hold is shown as a capture in progress, not yet as a fail', async () => {
+    const { wrapper, advance } = mountRamp()
+    await tap(wrapper, 'ramp-start')
+    await advance(9000)
+    await tap(wrapper, 'ramp-setpoint')
+    const evaluation = evaluateField(oilPressureRamp, last(wrapper), { unitSystem: 'IP' })
+    expect(evaluation.verdict).toBe('fail') // held 0 s up to the last point
+    await wrapper.setProps({ evaluation })
+    const badge = wrapper.get('[data-test=verdict-badge]')
+    expect(badge.attributes('data-verdict')).toBe('incomplete')
+    expect(badge.text()).toContain('Capture in progress')
+    expect(wrapper.find('[data-test=ramp-judged]').exists()).toBe(false)
+    await advance(21_000)
+    await tap(wrapper, 'ramp-drive')
+    await wrapper.setProps({ evaluation: evaluateField(oilPressureRamp, last(wrapper), { unitSystem: 'IP' }) })
+    expect(wrapper.get('[data-test=verdict-badge]').attributes('data-verdict')).toBe('pass')
+  })
+
+  it('when the setpoint comes too late during the capture, then the fail is shown at once', async () => {
+    const { wrapper, advance } = mountRamp()
+    await tap(wrapper, 'ramp-start')
+    await advance(34_000)
+    await tap(wrapper, 'ramp-setpoint')
+    await wrapper.setProps({ evaluation: evaluateField(oilPressureRamp, last(wrapper), { unitSystem: 'IP' }) })
+    const badge = wrapper.get('[data-test=verdict-badge]')
+    expect(badge.attributes('data-verdict')).toBe('fail')
+    expect(badge.text()).toContain('later than the 30 s allowed')
+  })
+
   it('when a reading is added without a number, then it asks for one and records nothing', async () => {
     const { wrapper, advance } = mountRamp()
     await tap(wrapper, 'ramp-start')
@@ -168,6 +197,16 @@ describe('RunFieldRamp', () => {
     await wrapper.get('[data-test=ramp-row-remove-2]').trigger('click')
     expect(last(wrapper)).toEqual({ value: [[0, 0], [10, 36]], unit: 'psid', driveStartS: 30 })
     expect(wrapper.get('[data-test=ramp-table-note]').text()).toContain('after the last reading')
+  })
+
+  it('when the same entry comes back from the server with its keys in another order, then the table keeps what was typed', async () => {
+    const { wrapper } = mountRamp({ modelValue: { value: [[0, 0], [10, 36]], unit: 'psid' } })
+    await wrapper.get('[data-test=ramp-row-t-1]').setValue('10.50')
+    expect(last(wrapper)).toEqual({ value: [[0, 0], [10.5, 36]], unit: 'psid' })
+    await wrapper.setProps({ modelValue: { unit: 'psid', value: [[0, 0], [10.5, 36]] } as SeriesEntry })
+    expect((wrapper.get('[data-test=ramp-row-t-1]').element as HTMLInputElement).value).toBe('10.50')
+    await wrapper.setProps({ modelValue: { value: [[0, 0], [11, 37]], unit: 'psid' } })
+    expect((wrapper.get('[data-test=ramp-row-t-1]').element as HTMLInputElement).value).toBe('11')
   })
 
   it('when a new capture is started over a recorded ramp, then it asks first and only then clears the reading', async () => {
