@@ -184,7 +184,7 @@ describe('useOfflineQueue', () => {
     const resent = send.mock.calls[2][0]
     expect(resent.body.baseVersion).toBe(3)
     expect(resent.changeId).not.toBe(first.changeId)
-    expect(resent.body.entry).toEqual({ value: 38, unit: 'psid' })
+    expect((resent.body as { entry: unknown }).entry).toEqual({ value: 38, unit: 'psid' })
     expect(storage.changes.size).toBe(0)
     queue.dispose()
   })

@@ -198,7 +198,7 @@ describe('a technician runs the chiller start-up', { timeout: 180_000 }, () => {
     await page.click(sel('finish-review'))
     await page.waitForSelector(sel('review-counts'))
     await page.waitForSelector(sel('review-can-sign'))
-    expect(await page.$eval(sel('sign-performer'), (el) => (el as HTMLButtonElement).disabled)).toBe(true)
+    await page.waitForSelector(`${sel('sign-performer')}:not([disabled])`)
 
     const { run, review } = await page.evaluate(async (id: string) => {
       const run = (await (await fetch(`/api/runs/${id}`)).json()).run
