@@ -86,6 +86,7 @@ const DEMO_PROJECTS = [
     siteAddress: '1400 Fernhollow Road, Marrowick, IL 60999',
     timeZone: 'America/Chicago',
     unitSystem: 'IP' as const,
+    reportPaper: 'Letter' as const,
     distributionList: ['facilities.records@vexleyhealth.test', 'closeout@pellworthmech.test'],
     members: ['rafe.okafor@tallowmere.test', 'ines.marlow@tallowmere.test', 'maren.solvik@vexleyhealth.test', 'theo.brannick@pellworthmech.test'],
     equipment: [
@@ -102,6 +103,7 @@ const DEMO_PROJECTS = [
     siteAddress: '88 Quillon Avenue, Harwick Bay, ON K0X 9Z9',
     timeZone: 'America/Toronto',
     unitSystem: 'SI' as const,
+    reportPaper: 'A4' as const,
     distributionList: ['plant.operations@corranpoly.test'],
     members: ['ines.marlow@tallowmere.test', 'priya.halden@corranpoly.test', 'theo.brannick@pellworthmech.test'],
     equipment: [

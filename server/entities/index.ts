@@ -8,6 +8,7 @@ import { OutboundMail } from './outbound-mail.entity'
 import { Project } from './project.entity'
 import { ProjectMember } from './project-member.entity'
 import { Reading } from './reading.entity'
+import { Report } from './report.entity'
 import { Run } from './run.entity'
 import { RunAttachment } from './run-attachment.entity'
 import { RunChange } from './run-change.entity'
@@ -16,8 +17,8 @@ import { Signature } from './signature.entity'
 import { TemplateVersion } from './template-version.entity'
 import { User } from './user.entity'
 
-export { Attachment, AuditEvent, ChecklistTemplate, Equipment, Finding, Organization, OutboundMail, Project, ProjectMember, Reading, Run, RunAttachment, RunChange, RunStep, Signature, TemplateVersion, User }
+export { Attachment, AuditEvent, ChecklistTemplate, Equipment, Finding, Organization, OutboundMail, Project, ProjectMember, Reading, Report, Run, RunAttachment, RunChange, RunStep, Signature, TemplateVersion, User }
 export const entities = [
   Organization, User, Project, ProjectMember, AuditEvent, Attachment, Equipment, ChecklistTemplate, TemplateVersion,
-  Run, Reading, RunStep, RunChange, Finding, RunAttachment, Signature, OutboundMail,
+  Run, Reading, RunStep, RunChange, Finding, RunAttachment, Signature, OutboundMail, Report,
 ]

@@ -38,6 +38,10 @@ export class Project {
   @Column({ type: 'text', array: true, name: 'distribution_list', default: () => "'{}'" })
   distributionList: string[]
 
+  /** Paper size of this project's handover reports. */
+  @Column({ type: 'text', name: 'report_paper', default: 'Letter' })
+  reportPaper: 'A4' | 'Letter'
+
   @OneToMany(() => ProjectMember, (m) => m.project)
   members: Relation<ProjectMember[]>
 

@@ -6,7 +6,7 @@ import { Equipment, Project, ProjectMember, User } from '../entities'
 import { recordAudit } from './audit.service'
 import type { Actor } from './user.service'
 
-type ProjectFields = Pick<Project, 'code' | 'name' | 'siteName' | 'siteAddress' | 'timeZone' | 'unitSystem' | 'distributionList'>
+type ProjectFields = Pick<Project, 'code' | 'name' | 'siteName' | 'siteAddress' | 'timeZone' | 'unitSystem' | 'distributionList' | 'reportPaper'>
 
 function snapshot(p: Project): ProjectFields {
   return {
@@ -17,6 +17,7 @@ function snapshot(p: Project): ProjectFields {
     timeZone: p.timeZone,
     unitSystem: p.unitSystem,
     distributionList: p.distributionList,
+    reportPaper: p.reportPaper,
   }
 }
 

@@ -269,7 +269,24 @@ export class RunService {
   }
 
   async detail(user: SessionUser, runId: string): Promise<RunDetail> {
-    const ctx = await this.context(user, runId)
+    return this.detailOf(await this.context(user, runId))
+  }
+
+  /** The run as the report prints it, for server-side work that acts for nobody in particular (report rendering). */
+  async detailForReport(runId: string): Promise<RunDetail> {
+    const run = await this.db.getRepository(Run).findOneByOrFail({ id: runId })
+    const manager = this.db.manager
+    const [project, equipment, version] = await Promise.all([
+      manager.getRepository(Project).findOneByOrFail({ id: run.projectId }),
+      manager.getRepository(Equipment).findOneByOrFail({ id: run.equipmentId }),
+      manager.getRepository(TemplateVersion).findOneByOrFail({ id: run.templateVersionId }),
+    ])
+    const template = await manager.getRepository(ChecklistTemplate).findOneByOrFail({ id: version.templateId })
+    return this.detailOf({ run, project, equipment, version, template, definition: version.definition as unknown as ChecklistDefinition })
+  }
+
+  private async detailOf(ctx: RunContext): Promise<RunDetail> {
+    const runId = ctx.run.id
     const [summary] = await this.summaries([ctx.run])
     const readings = await this.db.getRepository(Reading).findBy({ runId })
     const steps = await this.db.getRepository(RunStep).findBy({ runId })

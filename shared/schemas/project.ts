@@ -32,6 +32,7 @@ const fields = {
     .mixed<'IP' | 'SI'>()
     .required('Unit system is required')
     .oneOf(['IP', 'SI'], 'Unit system must be IP or SI'),
+  reportPaper: yup.mixed<'A4' | 'Letter'>().oneOf(['A4', 'Letter'], 'Report paper must be A4 or Letter').default('Letter'),
   distributionList: yup
     .array(yup.string().trim().lowercase().required().email('${value} is not a valid email address'))
     .max(50, 'The distribution list takes at most 50 addresses')
@@ -53,6 +54,7 @@ export const projectUpdateSchema = yup
     timeZone: fields.timeZone.optional().default(undefined),
     unitSystem: yup.mixed<'IP' | 'SI'>().oneOf(['IP', 'SI'], 'Unit system must be IP or SI').optional(),
     distributionList: fields.distributionList.optional().default(undefined),
+    reportPaper: yup.mixed<'A4' | 'Letter'>().oneOf(['A4', 'Letter'], 'Report paper must be A4 or Letter').optional(),
   })
   .noUnknown()
   .test('not-empty', 'Give at least one field to change', (v) => v != null && Object.values(v).some((x) => x !== undefined))

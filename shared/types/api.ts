@@ -40,6 +40,8 @@ export interface ProjectSummary {
   timeZone: string
   unitSystem: 'IP' | 'SI'
   distributionList: string[]
+  /** Paper size of the handover reports. */
+  reportPaper: 'A4' | 'Letter'
   memberCount: number
   equipmentCount: number
 }

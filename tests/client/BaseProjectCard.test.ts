@@ -12,6 +12,7 @@ const project: ProjectSummary = {
   timeZone: 'America/Chicago',
   unitSystem: 'IP',
   distributionList: [],
+  reportPaper: 'Letter',
   memberCount: 4,
   equipmentCount: 2,
 }

@@ -26,7 +26,7 @@ export async function startProduct(database: string): Promise<RunningProduct> {
   await db.initialize()
   await db.runMigrations({ transaction: 'each' })
   await db.query(
-    `TRUNCATE outbound_mail, signature, run_attachment, finding, run_change, run_step, reading, run, template_version, checklist_template, equipment, attachment, project_member, project, app_user, organization, session, rate_limit CASCADE`,
+    `TRUNCATE report, outbound_mail, signature, run_attachment, finding, run_change, run_step, reading, run, template_version, checklist_template, equipment, attachment, project_member, project, app_user, organization, session, rate_limit CASCADE`,
   )
   await db.query(`TRUNCATE audit_event`)
   await loadDemoData(db)

@@ -1,0 +1,51 @@
+import { Column, CreateDateColumn, Entity, PrimaryGeneratedColumn } from 'typeorm'
+
+export type ReportStatus = 'pending' | 'ready' | 'failed'
+
+/** The sealed PDF handover report of an accepted run, archived in storage by its SHA-256. */
+@Entity({ name: 'report' })
+export class Report {
+  @PrimaryGeneratedColumn('uuid')
+  id: string
+
+  @Column({ type: 'uuid', name: 'run_id' })
+  runId: string
+
+  @Column({ type: 'text', name: 'report_number' })
+  reportNumber: string
+
+  @Column({ type: 'text' })
+  status: ReportStatus
+
+  @Column({ type: 'text' })
+  paper: 'A4' | 'Letter'
+
+  @Column({ type: 'integer', default: 0 })
+  attempts: number
+
+  @Column({ type: 'text', name: 'last_error', nullable: true })
+  lastError: string | null
+
+  @Column({ type: 'text', name: 'storage_key', nullable: true })
+  storageKey: string | null
+
+  /** SHA-256 of the sealed PDF file as archived. */
+  @Column({ type: 'char', length: 64, nullable: true })
+  sha256: string | null
+
+  /** SHA-256 of the report content (canonical JSON of what it prints), printed in the report's verification block. */
+  @Column({ type: 'char', length: 64, name: 'content_sha256', nullable: true })
+  contentSha256: string | null
+
+  @Column({ type: 'bigint', name: 'size_bytes', nullable: true, transformer: { to: (v: number | null) => v, from: (v: string | null) => (v === null ? null : Number(v)) } })
+  sizeBytes: number | null
+
+  @Column({ type: 'jsonb', name: 'seal_info', nullable: true })
+  sealInfo: Record<string, unknown> | null
+
+  @CreateDateColumn({ type: 'timestamptz', name: 'created_at' })
+  createdAt: Date
+
+  @Column({ type: 'timestamptz', name: 'ready_at', nullable: true })
+  readyAt: Date | null
+}
