@@ -2,6 +2,7 @@ import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
 import { createPinia, setActivePinia } from 'pinia'
 import { evaluateChecklist } from '@shared/rules'
 import { chillerStartupDefinition } from '@shared/library/chiller'
+import type { AnyDesignPoint } from '@shared/schemas/design-point'
 import type { ReadingSaved, RunDetail, RunReading } from '@shared/types/run'
 import { createMemoryQueueStorage } from '@/composables/useOfflineQueue'
 import { useSessionStore } from '@/stores/session'
@@ -24,7 +25,7 @@ const designPoint = {
 }
 
 function reading(fieldId: string, version = 0, entry: RunReading['entry'] = null, by: string | null = null): RunReading {
-  const evaluation = evaluateChecklist(chillerStartupDefinition, { readings: { [fieldId]: entry }, designPoint, unitSystem: 'IP' })[fieldId]
+  const evaluation = evaluateChecklist(chillerStartupDefinition, { readings: { [fieldId]: entry }, designPoint: designPoint as AnyDesignPoint, unitSystem: 'IP' })[fieldId]
   return { fieldId, entry, notApplicable: false, naReason: null, justification: null, evaluation, version, updatedAt: by ? '2026-12-01T10:32:00.000Z' : null, updatedByName: by }
 }
 
@@ -36,7 +37,7 @@ function runDetail(): RunDetail {
     templateId: 't', templateName: 'Water-cooled centrifugal chiller start-up', templateVersionNumber: 1, state: 'in_progress', version: 1,
     startedAt: '2026-12-01T09:00:00.000Z', startedByName: 'Rafe Okafor', updatedAt: '2026-12-01T09:00:00.000Z',
     progress: { required: 74, answered: 0, pass: 0, marginal: 0, fail: 0, incomplete: 74, notApplicable: 0 },
-    openFindings: 0, unitSystem: 'IP', definition: chillerStartupDefinition, designPoint, readings, steps: {}, findings: [], attachments: [],
+    openFindings: 0, unitSystem: 'IP', definition: chillerStartupDefinition, designPoint, readings, steps: {}, findings: [], attachments: [], signatures: [],
   }
 }
 
