@@ -167,8 +167,8 @@ function signatureImage(seed: number): string {
   })
 }
 
-/** Canonical JSON (keys sorted, no spaces) of a value, as hashed for the report content. */
-export function canonicalJson(value: unknown): string {
+/** Canonical JSON (keys sorted, no spaces) of a value. */
+function canonicalJson(value: unknown): string {
   if (value === null || typeof value !== 'object') return JSON.stringify(value) ?? 'null'
   if (Array.isArray(value)) return `[${value.map((v) => canonicalJson(v === undefined ? null : v)).join(',')}]`
   const entries = Object.entries(value as Record<string, unknown>)
@@ -178,7 +178,7 @@ export function canonicalJson(value: unknown): string {
 }
 
 /** SHA-256 (hex) of the report content: the canonical JSON of the input without `contentSha256`. */
-export function reportContentSha256(input: Omit<ReportInput, 'contentSha256'> & { contentSha256?: string }): string {
+function sampleContentSha256(input: Omit<ReportInput, 'contentSha256'> & { contentSha256?: string }): string {
   const { contentSha256: _ignored, ...content } = input
   return createHash('sha256').update(canonicalJson(content)).digest('hex')
 }
@@ -314,6 +314,7 @@ export function sampleReportInput(options: { paper?: 'A4' | 'Letter' } = {}): Re
     siteAddress: '1400 Fernhollow Road, Marrowick, IL 60999',
     timeZone: 'America/Chicago',
     unitSystem: 'IP',
+    reportPaper: options.paper ?? 'A4',
     distributionList: ['facilities.records@vexleyhealth.test', 'closeout@pellworthmech.test'],
     memberCount: 4,
     equipmentCount: 4,
@@ -359,6 +360,7 @@ export function sampleReportInput(options: { paper?: 'A4' | 'Letter' } = {}): Re
     designPoint,
     findings,
     attachments,
+    signatures: [],
     ...runBase,
   }
 
@@ -383,7 +385,9 @@ export function sampleReportInput(options: { paper?: 'A4' | 'Letter' } = {}): Re
     signature({ id: 'sig-3', meaning: 'accepted_by', printedName: 'Maren Solvik', role: 'Owner’s representative', signedAtUtc: '2026-12-01T22:42:00.000Z', signedAtLocal: '2026-12-01 16:42 CST' }, 3),
   ]
 
-  const reportNumber = 'SP-VXH-CUP-CH2-0001'
+  run.signatures = signatures
+
+  const reportNumber = 'SP-2026-000001'
   const input: Omit<ReportInput, 'contentSha256'> = {
     reportNumber,
     organizationName: 'Tallowmere Commissioning Group',
@@ -400,5 +404,5 @@ export function sampleReportInput(options: { paper?: 'A4' | 'Letter' } = {}): Re
       'att-attendance': picture(240, 320, 3),
     },
   }
-  return { ...input, contentSha256: reportContentSha256(input) }
+  return { ...input, contentSha256: sampleContentSha256(input) }
 }

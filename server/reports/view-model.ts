@@ -1,13 +1,13 @@
 import { DEFER } from '@shared/library/cautions'
-import { classify, worstVerdict, type FieldEvaluation, type Verdict } from '@shared/rules'
+import { classify, parseExpression, worstVerdict, type FieldEvaluation, type Verdict } from '@shared/rules'
 import type { ChecklistField, ChecklistSection, ChecklistStep, RampRule } from '@shared/schemas/checklist'
 import { DESIGN_POINT_QUANTITIES, EQUIPMENT_KIND_LABELS, isDesignPointKey, isEquipmentKind, type DesignPointKey } from '@shared/schemas/design-point'
 import type { SeriesEntry } from '@shared/schemas/reading'
 import type { ReportInput, SignatureRecord } from '@shared/types/report'
 import type { FindingSummary, RunReading } from '@shared/types/run'
-import { convert, displayUnit, formatNumber, formatQuantity, fromCanonical, unitLabel, type QuantityKind, type UnitSystem } from '@shared/units'
+import { convert, convertDifference, displayUnit, formatNumber, formatQuantity, fromCanonical, unitLabel, unitSpec, type QuantityKind, type UnitSystem } from '@shared/units'
 // The design-point rows the equipment pages show, in the project's units (pure functions; no Vue inside).
-import { designPointRows } from '../../client/composables/useDesignPoint'
+import { designPointRows, designPointUnit } from '../../client/composables/useDesignPoint'
 
 /** A verdict as printed: its key (for the shape) and its word. */
 export interface VerdictView {
@@ -74,6 +74,7 @@ export interface TimingRowView {
 }
 
 export interface RampView {
+  fieldId: string
   label: string
   unit: string
   points: Array<[number, number]>
@@ -132,7 +133,9 @@ export interface ReportView {
   generatedAt: string
   overall: VerdictView
   counts: Array<{ verdict: VerdictView | null; word: string; count: number }>
-  countedFields: number
+  /** Every check of the run, optional and not-applicable ones included. */
+  totalChecks: number
+  acceptedWithOpenFindings: boolean
   problems: ProblemView[]
   missing: ProblemView[]
   openFindingCount: number
@@ -147,9 +150,11 @@ export interface ReportView {
   otherAttachments: Array<{ name: string; where: string }>
   recommendations: string[]
   handoverTasks: FieldRowView[]
+  handoverNotes: string[]
   cautions: string[]
   deferStatement: string
   signatures: SignatureView[]
+  voidedSignatures: SignatureView[]
   verification: { contentSha256: string; verifyUrl: string; generatedAtUtc: string }
 }
 
@@ -188,12 +193,22 @@ interface Context {
   photoRefs: Map<string, string>
 }
 
-function quantityText(value: number, unit: string, kind: QuantityKind): string {
-  return formatQuantity(value, unit, kind)
+/**
+ * The unit a field is printed in: its own unit for times (hours stay hours), the design point's unit for a reading
+ * judged against the design point (pressure drops in feet of water, as the design point shows them), else the
+ * project's display unit the evaluation used.
+ */
+function shownUnit(field: ChecklistField, evaluation: FieldEvaluation | undefined, system: UnitSystem): string | null {
+  const kind = field.quantity as QuantityKind | undefined
+  if (!kind) return null
+  if (kind === 'time' && field.unit) return field.unit
+  const rule = field.rule
+  if (rule && (rule.type === 'design' || rule.type === 'design_offset') && isDesignPointKey(rule.key) && DESIGN_POINT_QUANTITIES[rule.key] === kind) return designPointUnit(rule.key, system)
+  return evaluation?.display?.unit ?? evaluation?.limits?.display.unit ?? displayUnit(kind, system)
 }
 
-/** The limits of an evaluation in words, in the project's display unit. */
-function limitsInWords(field: ChecklistField, evaluation: FieldEvaluation | undefined): string {
+/** The limits of an evaluation in words, in the unit the field is printed in. */
+function limitsInWords(field: ChecklistField, evaluation: FieldEvaluation | undefined, system: UnitSystem, designPoint: Record<string, unknown>): string {
   const rule = field.rule
   if (!rule) return field.computed ? 'Computed; no limit' : 'Recorded; no limit'
   if (rule.type === 'yes_no') return `${rule.expected ? 'Yes' : 'No'} required`
@@ -206,12 +221,16 @@ function limitsInWords(field: ChecklistField, evaluation: FieldEvaluation | unde
   const limits = evaluation?.limits
   if (!limits) return evaluation?.problem ? evaluation.problem.message : '—'
   const kind = field.quantity as QuantityKind
-  const unit = limits.display.unit
-  const q = (v: number) => quantityText(v, unit, kind)
+  const from = limits.display.unit
+  const unit = shownUnit(field, evaluation, system) ?? from
+  const decimals = unitSpec(kind, unit).decimals
+  const at = (v: number) => convert(v, from, unit, kind)
+  const q = (v: number) => formatQuantity(at(v), unit, kind)
+  const n = (v: number) => formatNumber(at(v), decimals)
   if (rule.type === 'ramp') {
     const s = (v: number) => `${formatNumber(v, 1)} s`
     const setpoint = convert(rule.setpoint, field.unit as string, unit, kind)
-    const parts = [`reach ${q(setpoint)} within ${s(rule.reachWithinS)}`]
+    const parts = [`reach ${formatQuantity(setpoint, unit, kind)} within ${s(rule.reachWithinS)}`]
     if (rule.reachNotBeforeS !== undefined) parts.push(`not before ${s(rule.reachNotBeforeS)}`)
     if (rule.holdS) parts.push(`hold at or above it ${s(rule.holdS)} before the drive starts`)
     if (limits.display.min !== undefined) parts.push(`never below ${q(limits.display.min)} after`)
@@ -220,15 +239,26 @@ function limitsInWords(field: ChecklistField, evaluation: FieldEvaluation | unde
   }
   const { min, max, warnMin, warnMax } = limits.display
   const parts: string[] = []
-  if (min !== undefined && max !== undefined) parts.push(`${q(min)} to ${q(max)}`)
+  if (min !== undefined && max !== undefined) parts.push(`${n(min)} to ${q(max)}`)
   else if (min !== undefined) parts.push(`at least ${q(min)}`)
   else if (max !== undefined) parts.push(`at most ${q(max)}`)
   const warn: string[] = []
   if (warnMin !== undefined) warn.push(`below ${q(warnMin)}`)
   if (warnMax !== undefined) warn.push(`above ${q(warnMax)}`)
   if (warn.length) parts.push(`marginal ${warn.join(' or ')}`)
-  const basis = limits.basis ? ` (${limits.basis})` : ''
-  return capitalise(`${parts.join('; ')}${basis}`)
+  let basis = limits.basis
+  if ((rule.type === 'design' || rule.type === 'design_offset') && unit !== from && isDesignPointKey(rule.key)) {
+    // The shared basis is written in the display unit; say it again in the unit printed here.
+    const fieldUnit = field.unit as string
+    const stored = designPoint[rule.key] as { value: number; unit: string } | undefined
+    const designText = stored ? formatQuantity(fromCanonical(stored.value, unit, kind), unit, kind) : 'value missing'
+    const sides =
+      rule.type === 'design'
+        ? [rule.lowerPct === undefined ? null : `−${formatNumber(rule.lowerPct, 1)} %`, rule.upperPct === undefined ? null : `+${formatNumber(rule.upperPct, 1)} %`]
+        : [rule.lower === undefined ? null : `−${formatQuantity(convertDifference(rule.lower, fieldUnit, unit, kind), unit, kind)}`, rule.upper === undefined ? null : `+${formatQuantity(convertDifference(rule.upper, fieldUnit, unit, kind), unit, kind)}`]
+    basis = `design ${designText}${sides.some(Boolean) ? `, ${sides.filter(Boolean).join(' to ')}` : ''}`
+  }
+  return capitalise(`${parts.join('; ')}${basis ? ` (${basis})` : ''}`)
 }
 
 const capitalise = (s: string) => (s ? s[0].toUpperCase() + s.slice(1) : s)
@@ -239,7 +269,7 @@ function seriesEntry(reading: RunReading | undefined): SeriesEntry | null {
 }
 
 /** The value of a field as printed: number with unit, Yes/No, the choice's words, the text, photo count. */
-function valueText(field: ChecklistField, reading: RunReading | undefined): string {
+function valueText(field: ChecklistField, reading: RunReading | undefined, system: UnitSystem): string {
   const evaluation = reading?.evaluation
   if (!reading || !evaluation) return 'Not recorded'
   if (reading.notApplicable) return 'Not applicable'
@@ -249,7 +279,11 @@ function valueText(field: ChecklistField, reading: RunReading | undefined): stri
     const drive = e.driveStartS === undefined ? '' : `, drive start at ${formatNumber(e.driveStartS, 1)} s`
     return `${e.value.length} readings over ${formatNumber(e.value[e.value.length - 1][0], 1)} s${drive}`
   }
-  if (evaluation.display) return evaluation.display.text
+  if (evaluation.display) {
+    const kind = field.quantity as QuantityKind
+    const unit = shownUnit(field, evaluation, system) ?? evaluation.display.unit
+    return unit === evaluation.display.unit ? evaluation.display.text : formatQuantity(convert(evaluation.display.value, evaluation.display.unit, unit, kind), unit, kind)
+  }
   const answer = evaluation.answer
   if (typeof answer === 'boolean') return answer ? 'Yes' : 'No'
   if (field.kind === 'choice' && typeof answer === 'string') return field.choices?.find((c) => c.value === answer)?.label ?? answer
@@ -270,9 +304,9 @@ function fieldRow(ctx: Context, id: string): FieldRowView | null {
   return {
     id,
     label: field.label,
-    value: notApplicable ? 'Not applicable' : valueText(field, reading),
+    value: notApplicable ? 'Not applicable' : valueText(field, reading, ctx.system),
     longText: field.kind === 'text' && !notApplicable && typeof evaluation?.answer === 'string' && evaluation.answer.length > 0,
-    limits: limitsInWords(field, evaluation),
+    limits: limitsInWords(field, evaluation, ctx.system, ctx.input.equipment.designPoint),
     verdict: notApplicable || !evaluation ? null : verdictView(evaluation.verdict),
     message: evaluation?.message ?? '',
     notApplicable,
@@ -294,6 +328,22 @@ function whereOf(ctx: Context, stepId: string, fieldId: string | null): string {
   return stepId
 }
 
+const designRefsCache = new WeakMap<ChecklistField, string[]>()
+function designRefsOf(field: ChecklistField): string[] {
+  let refs = designRefsCache.get(field)
+  if (!refs) {
+    try {
+      refs = field.computed ? parseExpression(field.computed.expression).designRefs : []
+    } catch {
+      refs = []
+    }
+    designRefsCache.set(field, refs)
+  }
+  return refs
+}
+
+const HANDOVER_SECTION = 'handover'
+
 // Readings that relate to design values without an acceptance rule naming them (the starter template's ids).
 const RELATED_WITHOUT_RULE: Partial<Record<DesignPointKey, string[]>> = { inputPower: ['inputKw'] }
 
@@ -308,6 +358,7 @@ function designRows(ctx: Context): DesignRowView[] {
     for (const { field } of ctx.fields.values()) {
       const rule = field.rule
       if (rule && (rule.type === 'design' || rule.type === 'design_offset') && rule.key === row.key && field.quantity === kind) related.push(field)
+      else if (field.computed && designRefsOf(field).includes(row.key)) related.push(field)
     }
     for (const id of RELATED_WITHOUT_RULE[row.key] ?? []) {
       const place = ctx.fields.get(id)
@@ -323,7 +374,10 @@ function designRows(ctx: Context): DesignRowView[] {
       const canonicalValue = reading?.notApplicable ? null : evaluation?.canonical ?? null
       let measuredText = reading?.notApplicable ? 'Not applicable' : 'Not recorded'
       let deviation = '—'
-      if (canonicalValue) {
+      if (canonicalValue && field.quantity !== kind) {
+        // A computed check against the design value (e.g. setpoint above the lowest allowed): its own value and unit.
+        measuredText = valueText(field, reading, ctx.system)
+      } else if (canonicalValue) {
         const measured = fromCanonical(canonicalValue.value, row.unit, kind)
         measuredText = formatQuantity(measured, row.unit, kind)
         const design = row.value as number
@@ -362,6 +416,7 @@ function rampView(ctx: Context): RampView | null {
   const rule = place.field.rule as RampRule
   const toShown = (v: number | undefined) => (v === undefined ? null : convert(v, place.field.unit as string, shown, kind))
   return {
+    fieldId: place.field.id,
     label: place.field.label,
     unit: unitLabel(kind, shown),
     points: entry.value.map(([t, v]) => [t, convert(v, entry.unit, shown, kind)]),
@@ -384,8 +439,8 @@ function timingRows(ctx: Context, ramp: RampView | null): TimingRowView[] {
     if (r) out.push({ label: r.label, value: r.value, limits: r.limits, verdict: r.verdict })
   }
   fromField('prelubeTime')
-  const place = ctx.fields.get('oilPressureRamp')
-  const series = place ? ctx.input.run.readings.oilPressureRamp?.evaluation.series : undefined
+  const place = ramp ? ctx.fields.get(ramp.fieldId) : undefined
+  const series = place ? ctx.input.run.readings[place.field.id]?.evaluation.series : undefined
   if (ramp && series && place?.field.rule?.type === 'ramp') {
     const rule = place.field.rule
     const s = (v: number) => `${formatNumber(v, 1)} s`
@@ -463,7 +518,7 @@ export function buildReportView(input: ReportInput): ReportView {
   const photoRefs = new Map(images.map((a, i) => [a.id, `Photo ${i + 1}`]))
   const ctx: Context = { input, system, fields, findingRefs, photoRefs }
 
-  const sections: SectionView[] = definition.sections.map((section) => ({
+  const allSections: SectionView[] = definition.sections.map((section) => ({
     id: section.id,
     title: section.title,
     steps: section.steps.map((step) => {
@@ -483,7 +538,7 @@ export function buildReportView(input: ReportInput): ReportView {
   const problems: ProblemView[] = []
   const missing: ProblemView[] = []
   const counted: Verdict[] = []
-  for (const section of sections) {
+  for (const section of allSections) {
     for (const step of section.steps) {
       for (const row of step.fields) {
         if (row.notApplicable || !row.verdict) continue
@@ -535,8 +590,11 @@ export function buildReportView(input: ReportInput): ReportView {
   const recommendations: string[] = []
   for (const f of findings) if (f.open) recommendations.push(`Resolve finding ${f.ref} (${f.severity.toLowerCase()}) and record the re-test: ${f.description}`)
   for (const pr of problems) if (pr.verdict.key === 'marginal') recommendations.push(`Watch ${pr.label.toLowerCase()}: ${pr.message}.`)
-  const handoverSection = definition.sections.find((s) => s.id === 'handover')
-  const handoverTasks = handoverSection ? handoverSection.steps.flatMap((s) => rows(ctx, s.fields.map((f) => f.id))) : []
+  // The starter template's maintenance handover is printed with the recommendations rather than in the record.
+  const handoverSection = allSections.find((s) => s.id === HANDOVER_SECTION)
+  const handoverTasks = handoverSection ? handoverSection.steps.flatMap((s) => s.fields) : []
+  const handoverNotes = handoverSection ? handoverSection.steps.map((s) => s.note).filter(Boolean) : []
+  const sections = allSections.filter((s) => s.id !== HANDOVER_SECTION)
   recommendations.push('Keep this report with the daily logs as the baseline: compare approaches, kW/ton and oil pressure against it.')
 
   const signatures = input.signatures.map(signatureView)
@@ -583,7 +641,8 @@ export function buildReportView(input: ReportInput): ReportView {
     generatedAt: `${utc(input.generatedAtUtc)} (${dateTimeIn(input.generatedAtUtc, tz)})`,
     overall: verdictView(worstVerdict(counted)),
     counts,
-    countedFields: p.required,
+    totalChecks: p.pass + p.marginal + p.fail + p.incomplete + p.notApplicable,
+    acceptedWithOpenFindings: run.state === 'accepted' && run.findings.some((f) => f.status === 'open'),
     problems,
     missing,
     openFindingCount: run.findings.filter((f) => f.status === 'open').length,
@@ -602,9 +661,11 @@ export function buildReportView(input: ReportInput): ReportView {
     otherAttachments,
     recommendations,
     handoverTasks,
+    handoverNotes,
     cautions: collectCautions(definition.sections),
     deferStatement: DEFER,
-    signatures,
+    signatures: signatures.filter((x) => !x.voided),
+    voidedSignatures: signatures.filter((x) => x.voided),
     verification: { contentSha256: input.contentSha256, verifyUrl: input.verifyUrl, generatedAtUtc: utc(input.generatedAtUtc) },
   }
 }

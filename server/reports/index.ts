@@ -1,0 +1,11 @@
+// The handover report (DESIGN.md §7): HTML from the templates, PDF through a small Chromium pool, PKCS#7 seal.
+export { renderReportHtml, renderReportPdf, renderReportPdfDetailed, renderReport, renderPdfInContext } from './render'
+export type { Paper, PdfOptions, PdfResult } from './render'
+export { createBrowserPool, launchReportBrowser, isBrowserCrash, BrowserPoolClosedError, CHROMIUM_PATH } from './browser-pool'
+export type { BrowserPool, BrowserPoolOptions, BrowserPoolStats, LaunchedBrowser } from './browser-pool'
+export { ensureOrganisationCertificate, createSelfSignedP12, sealPdf, verifySealedPdf } from './seal'
+export type { OrganisationSigner, CertificateOptions, SealOptions, SealVerification } from './seal'
+export { buildReportView, dateTimeIn } from './view-model'
+export type { ReportView } from './view-model'
+export { sampleReportInput } from './sample-report'
+export type { ReportInput, SignatureRecord } from '@shared/types/report'
