@@ -182,13 +182,14 @@ export const useRunStore = defineStore('run', () => {
     let answered = 0
     let fail = 0
     let marginal = 0
+    // Counted as the server counts them: required fields that apply, computed ones once their inputs are in.
     for (const f of step.fields) {
       const e = liveEvaluations.value[f.id]
       if (e?.verdict === 'fail') fail++
       if (e?.verdict === 'marginal') marginal++
-      if (f.computed || f.required === false) continue
+      if (f.required === false || stepNa || working(f.id).notApplicable) continue
       required++
-      if (stepNa || isAnswered(f.id)) answered++
+      if (isAnswered(f.id)) answered++
     }
     return { required, answered, fail, marginal, done: required === answered, notApplicable: stepNa }
   }
