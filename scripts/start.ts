@@ -80,6 +80,7 @@ async function prepareLocalCluster(): Promise<{ url: string; cluster: LocalClust
   }
   ensureDatabase(bin, port, 'startproof')
   process.env.STORAGE_DIR ??= path.join(base, 'files')
+  process.env.CERT_DIR ??= path.join(base, 'certs')
   return { url: databaseUrl(port, 'startproof'), cluster: { bin, dataDir, startedHere } }
 }
 

@@ -24,6 +24,8 @@ import { ProjectService } from './services/project.service'
 import { RunService } from './services/run.service'
 import { SigningService } from './services/signing.service'
 import { MailService } from './mail/mail.service'
+import { ReportService } from './services/report.service'
+import { createReportRenderer } from './jobs/report-renderer'
 import { LocalDiskStorage, StorageService } from './storage/storage'
 import { TemplateService } from './services/template.service'
 import { UserService } from './services/user.service'
@@ -50,8 +52,16 @@ export function createApp({ config, db }: AppDeps): Express {
   runs.findings = findings
   const mail = new MailService(db, storage, { smtpUrl: config.SMTP_URL, from: config.MAIL_FROM })
   const signing = new SigningService(db, runs, findings, mail, config.PUBLIC_URL)
-  const runRouters = runRoutes(config, runs, findings, signing)
-  app.locals.services = { mail, signing, runs, findings, storage }
+  const renderer = createReportRenderer(config, async () => {
+    const [row] = await db.query(`SELECT name FROM organization ORDER BY created_at LIMIT 1`)
+    return row?.name ?? 'Startproof'
+  })
+  const reports = new ReportService(db, { runs, projects, equipment, signing, storage, mail, publicUrl: config.PUBLIC_URL, renderer: () => renderer })
+  signing.onAccepted = async (runId) => {
+    await reports.requestFor(runId)
+  }
+  const runRouters = runRoutes(config, runs, findings, signing, reports)
+  app.locals.services = { mail, signing, runs, findings, storage, reports, renderer }
   const passport = createPassport(users)
   const PgStore = connectPgSimple(session)
   // The sessions share TypeORM's pg pool: one pool per process, and it reconnects by itself after an outage.

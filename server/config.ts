@@ -69,6 +69,11 @@ const configSchema = yup.object({
     .optional(),
   MAIL_FROM: yup.string().default('Startproof <startproof@startproof.test>'),
   PUBLIC_URL: yup.string().default('http://localhost:3000'),
+  CERT_DIR: yup.string().default('data/certs'),
+  SEAL_P12_PATH: yup.string().optional(),
+  SEAL_P12_PASSPHRASE: yup.string().optional(),
+  CHROMIUM_PATH: yup.string().default('/usr/bin/chromium'),
+  REPORT_BROWSERS: yup.number().typeError('REPORT_BROWSERS must be a number').integer().min(1).max(8).default(1),
 })
 
 export type Config = yup.InferType<typeof configSchema>

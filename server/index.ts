@@ -4,6 +4,8 @@ import { createApp } from './app'
 import { createDataSource } from './db/data-source'
 import { ensureStarterLibrary } from './services/starter-library'
 import type { MailService } from './mail/mail.service'
+import { ReportQueue } from './jobs/report-queue'
+import type { ReportRenderer, ReportService } from './services/report.service'
 
 export interface RunningServer {
   server: Server
@@ -25,8 +27,11 @@ export async function startServer(config: Config): Promise<RunningServer> {
   const added = await ensureStarterLibrary(db)
   if (added) console.log(`Added ${added} starter template${added === 1 ? '' : 's'} to the library`)
   const app = createApp({ config, db })
-  const mail = (app.locals.services as { mail: MailService }).mail
+  const services = app.locals.services as { mail: MailService; reports: ReportService; renderer: ReportRenderer }
+  const mail = services.mail
   mail.startWorker()
+  const queue = new ReportQueue(config.DATABASE_URL, services.reports)
+  await queue.start()
   const server = await new Promise<Server>((resolve, reject) => {
     const s = app.listen(config.PORT, config.HOST, () => resolve(s))
     s.once('error', reject)
@@ -38,6 +43,8 @@ export async function startServer(config: Config): Promise<RunningServer> {
     async close() {
       server.closeAllConnections()
       await new Promise<void>((resolve) => server.close(() => resolve()))
+      await queue.stop()
+      await services.renderer.close()
       await mail.stop()
       await db.destroy()
     },

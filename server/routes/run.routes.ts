@@ -25,6 +25,8 @@ import { validate } from '../middleware/validate'
 import { RUN_FILE_TYPES, type FindingService } from '../services/finding.service'
 import type { RunService } from '../services/run.service'
 import type { SigningService } from '../services/signing.service'
+import { reportView, type ReportService } from '../services/report.service'
+import { requireRole } from '../middleware/auth'
 
 const equipmentParams = yup.object({ equipmentId: uuidSchema.label('equipmentId') })
 
@@ -50,7 +52,13 @@ function fileUpload(maxMb: number): RequestHandler {
 }
 
 /** `/api/equipment/:equipmentId/runs` (start, list) and `/api/runs/…` (the run, its readings, steps, findings, files, review). */
-export function runRoutes(config: Config, runs: RunService, findings: FindingService, signing: SigningService): { byEquipment: Router; byId: Router } {
+export function runRoutes(
+  config: Config,
+  runs: RunService,
+  findings: FindingService,
+  signing: SigningService,
+  reports: ReportService,
+): { byEquipment: Router; byId: Router } {
   const byEquipment = Router({ mergeParams: true })
   byEquipment.post('/', validate({ params: equipmentParams, body: runCreateSchema }), async (req, res) => {
     res.status(201).json({ run: await runs.start(currentUser(req), String(req.params.equipmentId), req.body.templateId) })
@@ -118,6 +126,32 @@ export function runRoutes(config: Config, runs: RunService, findings: FindingSer
   byId.get('/:runId/signatures', validate({ params: runParamsSchema }), async (req, res) => {
     await runs.context(currentUser(req), runId(req))
     res.json({ signatures: await signing.list(runId(req)) })
+  })
+
+  byId.get('/:runId/report', validate({ params: runParamsSchema }), async (req, res) => {
+    await runs.context(currentUser(req), runId(req))
+    const report = await reports.forRun(runId(req))
+    res.json({ report: report ? reportView(report) : null })
+  })
+
+  byId.get('/:runId/report.pdf', validate({ params: runParamsSchema }), async (req, res) => {
+    await runs.context(currentUser(req), runId(req))
+    const report = await reports.forRun(runId(req))
+    if (!report) throw AppError.notFound('Report')
+    const pdf = await reports.pdf(report)
+    res
+      .type('application/pdf')
+      .set('Content-Disposition', `attachment; filename="${report.reportNumber}.pdf"`)
+      .set('ETag', `"${report.sha256}"`)
+      .set('Cache-Control', 'private, max-age=86400, immutable')
+      .send(pdf)
+  })
+
+  byId.post('/:runId/report/retry', requireRole('admin'), validate({ params: runParamsSchema }), async (req, res) => {
+    await runs.context(currentUser(req), runId(req))
+    const report = await reports.forRun(runId(req))
+    if (!report) throw AppError.notFound('Report')
+    res.json({ report: reportView(await reports.retry(report)) })
   })
 
   byId.get('/:runId/audit', validate({ params: runParamsSchema }), async (req, res) => {

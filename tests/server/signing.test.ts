@@ -1,10 +1,9 @@
 import { randomUUID } from 'node:crypto'
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
-import request from 'supertest'
 import type { MailService } from '../../server/mail/mail.service'
 import { startSmtpCapture } from '../../server/mail/smtp-capture'
-import { installStarterLibrary } from '../../server/services/starter-library'
-import { createTestContext, makeOrganization, makeProject, makeUser, resetDatabase, signedInAgent, TEST_PASSWORD, type TestContext } from '../helpers/context'
+import { createTestContext, resetDatabase, signedInAgent, TEST_PASSWORD, type TestContext } from '../helpers/context'
+import { readyRun as readyRunIn, sign, SIGNATURE, snapshotOf } from '../helpers/runs'
 
 let ctx: TestContext
 let capture: Awaited<ReturnType<typeof startSmtpCapture>>
@@ -24,52 +23,7 @@ beforeEach(async () => {
   capture.messages.length = 0
 })
 
-// A 2×2 PNG drawn by signature_pad would be larger; this is a valid PNG of the right type for the API.
-const SIGNATURE = `data:image/png;base64,${Buffer.from(
-  'iVBORw0KGgoAAAANSUhEUgAAABAAAAAQCAYAAAAf8/9hAAAAQ0lEQVR42mNkYPhfz0AEYBxVSF+FDAwM/4kxgGQDGBkZ/hNjAMkGMDIy/CfGAJINYGRk+E+MASQbwMjI8J8YA0g2AADmdwgRvY7J2wAAAABJRU5ErkJggg==',
-  'base64',
-).toString('base64')}`
-
-const chiller = {
-  tag: 'CH-7', kind: 'centrifugal_chiller', manufacturer: 'Test Works', model: 'TW-500', serialNumber: 'TW-7',
-  designPoint: {
-    refrigerant: 'R-134a', capacity: { value: 500, unit: 'TR' },
-    evaporatorEnteringWaterTemp: { value: 54, unit: 'degF' }, evaporatorLeavingWaterTemp: { value: 44, unit: 'degF' }, evaporatorWaterFlow: { value: 1200, unit: 'gpm' },
-    condenserEnteringWaterTemp: { value: 85, unit: 'degF' }, condenserLeavingWaterTemp: { value: 94.3, unit: 'degF' }, condenserWaterFlow: { value: 1500, unit: 'gpm' },
-    oilPressureSetpoint: { value: 35, unit: 'psid' },
-  },
-}
-
-/** A run whose every step but the running oil checks is not applicable (with a reason), and those two filled. */
-async function readyRun() {
-  const org = await makeOrganization(ctx.db)
-  const admin = await makeUser(ctx.db, org, 'admin')
-  const tech = await makeUser(ctx.db, org, 'technician', { displayName: 'Ada Tech', email: 'ada@firm.test' })
-  const rep = await makeUser(ctx.db, org, 'owner_rep', { displayName: 'Olive Owner', email: 'olive@owner.test' })
-  const otherRep = await makeUser(ctx.db, org, 'owner_rep')
-  const project = await makeProject(ctx.db, org, [tech.id, rep.id])
-  await ctx.db.query(`UPDATE project SET distribution_list = '{records@owner.test}' WHERE id = $1`, [project.id])
-  await ctx.db.transaction((tx) => installStarterLibrary(tx, org.id, admin.id))
-  const adminAgent = await signedInAgent(ctx.app, admin)
-  const equipment = (await adminAgent.post(`/api/projects/${project.id}/equipment`).send(chiller).expect(201)).body.equipment
-  const template = (await adminAgent.get('/api/templates')).body.templates.find((t: { key: string }) => t.key === 'centrifugal-chiller-startup')
-  const techAgent = await signedInAgent(ctx.app, tech)
-  const run = (await techAgent.post(`/api/equipment/${equipment.id}/runs`).send({ templateId: template.id }).expect(201)).body.run
-  for (const section of run.definition.sections) {
-    for (const step of section.steps) {
-      if (step.id === 'oil-running') continue
-      await techAgent.put(`/api/runs/${run.id}/steps/${step.id}`).send({ changeId: randomUUID(), baseVersion: 0, notApplicable: true, naReason: 'Covered by the factory test record' }).expect(200)
-    }
-  }
-  await techAgent.put(`/api/runs/${run.id}/readings/oilPressureRunning`).send({ changeId: randomUUID(), baseVersion: 0, entry: { value: 36, unit: 'psid' } }).expect(200)
-  await techAgent.put(`/api/runs/${run.id}/readings/oilTempRunning`).send({ changeId: randomUUID(), baseVersion: 0, entry: { value: 125, unit: 'degF' } }).expect(200)
-  const repAgent = await signedInAgent(ctx.app, rep)
-  return { org, admin, tech, rep, otherRep, project, run, techAgent, repAgent, adminAgent }
-}
-
-const snapshotOf = async (agent: request.Agent, runId: string) => (await agent.get(`/api/runs/${runId}/review`)).body.review.snapshotSha256 as string
-const sign = async (agent: request.Agent, runId: string, meaning: string, extra: Record<string, unknown> = {}) =>
-  agent.post(`/api/runs/${runId}/sign`).send({ meaning, password: TEST_PASSWORD, signatureImage: SIGNATURE, snapshotSha256: await snapshotOf(agent, runId), ...extra })
+const readyRun = () => readyRunIn(ctx)
 
 describe('signing as performer', () => {
   it('when the review allows it and the password is right, then the run is submitted and the owner rep is e-mailed', async () => {

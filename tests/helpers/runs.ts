@@ -1,0 +1,53 @@
+import { randomUUID } from 'node:crypto'
+import type request from 'supertest'
+import { installStarterLibrary } from '../../server/services/starter-library'
+import { makeOrganization, makeProject, makeUser, signedInAgent, TEST_PASSWORD, type TestContext } from './context'
+
+// A 2×2 PNG drawn by signature_pad would be larger; this is a valid PNG of the right type for the API.
+export const SIGNATURE = `data:image/png;base64,${Buffer.from(
+  'iVBORw0KGgoAAAANSUhEUgAAABAAAAAQCAYAAAAf8/9hAAAAQ0lEQVR42mNkYPhfz0AEYBxVSF+FDAwM/4kxgGQDGBkZ/hNjAMkGMDIy/CfGAJINYGRk+E+MASQbwMjI8J8YA0g2AADmdwgRvY7J2wAAAABJRU5ErkJggg==',
+  'base64',
+).toString('base64')}`
+
+export const chiller = {
+  tag: 'CH-7', kind: 'centrifugal_chiller', manufacturer: 'Test Works', model: 'TW-500', serialNumber: 'TW-7',
+  designPoint: {
+    refrigerant: 'R-134a', capacity: { value: 500, unit: 'TR' },
+    evaporatorEnteringWaterTemp: { value: 54, unit: 'degF' }, evaporatorLeavingWaterTemp: { value: 44, unit: 'degF' }, evaporatorWaterFlow: { value: 1200, unit: 'gpm' },
+    condenserEnteringWaterTemp: { value: 85, unit: 'degF' }, condenserLeavingWaterTemp: { value: 94.3, unit: 'degF' }, condenserWaterFlow: { value: 1500, unit: 'gpm' },
+    oilPressureSetpoint: { value: 35, unit: 'psid' },
+  },
+}
+
+/** A run whose every step but the running oil checks is not applicable (with a reason), and those two filled. */
+export async function readyRun(ctx: TestContext) {
+  const org = await makeOrganization(ctx.db)
+  const admin = await makeUser(ctx.db, org, 'admin')
+  const tech = await makeUser(ctx.db, org, 'technician', { displayName: 'Ada Tech', email: 'ada@firm.test' })
+  const rep = await makeUser(ctx.db, org, 'owner_rep', { displayName: 'Olive Owner', email: 'olive@owner.test' })
+  const otherRep = await makeUser(ctx.db, org, 'owner_rep')
+  const project = await makeProject(ctx.db, org, [tech.id, rep.id])
+  await ctx.db.query(`UPDATE project SET distribution_list = '{records@owner.test}' WHERE id = $1`, [project.id])
+  await ctx.db.transaction((tx) => installStarterLibrary(tx, org.id, admin.id))
+  const adminAgent = await signedInAgent(ctx.app, admin)
+  const equipment = (await adminAgent.post(`/api/projects/${project.id}/equipment`).send(chiller).expect(201)).body.equipment
+  const template = (await adminAgent.get('/api/templates')).body.templates.find((t: { key: string }) => t.key === 'centrifugal-chiller-startup')
+  const techAgent = await signedInAgent(ctx.app, tech)
+  const run = (await techAgent.post(`/api/equipment/${equipment.id}/runs`).send({ templateId: template.id }).expect(201)).body.run
+  for (const section of run.definition.sections) {
+    for (const step of section.steps) {
+      if (step.id === 'oil-running') continue
+      await techAgent.put(`/api/runs/${run.id}/steps/${step.id}`).send({ changeId: randomUUID(), baseVersion: 0, notApplicable: true, naReason: 'Covered by the factory test record' }).expect(200)
+    }
+  }
+  await techAgent.put(`/api/runs/${run.id}/readings/oilPressureRunning`).send({ changeId: randomUUID(), baseVersion: 0, entry: { value: 36, unit: 'psid' } }).expect(200)
+  await techAgent.put(`/api/runs/${run.id}/readings/oilTempRunning`).send({ changeId: randomUUID(), baseVersion: 0, entry: { value: 125, unit: 'degF' } }).expect(200)
+  const repAgent = await signedInAgent(ctx.app, rep)
+  return { org, admin, tech, rep, otherRep, project, run, techAgent, repAgent, adminAgent }
+}
+
+export const snapshotOf = async (agent: request.Agent, runId: string) => (await agent.get(`/api/runs/${runId}/review`)).body.review.snapshotSha256 as string
+
+/** Signs a run with the test password, the test drawing and the snapshot the review shows now. */
+export const sign = async (agent: request.Agent, runId: string, meaning: string, extra: Record<string, unknown> = {}) =>
+  agent.post(`/api/runs/${runId}/sign`).send({ meaning, password: TEST_PASSWORD, signatureImage: SIGNATURE, snapshotSha256: await snapshotOf(agent, runId), ...extra })
