@@ -17,7 +17,7 @@ const LATIN = 'U+0000-00FF,U+0131,U+0152-0153,U+02BB-02BC,U+02C6,U+02DA,U+02DC,U
 const LATIN_EXT = 'U+0100-02BA,U+02BD-02C5,U+02C7-02CC,U+02CE-02D7,U+02DD-02FF,U+0304,U+0308,U+0329,U+1D00-1DBF,U+1E00-1E9F,U+1EF2-1EFF,U+2020,U+20A0-20AB,U+20AD-20C4,U+2113,U+2C60-2C7F,U+A720-A7FF'
 const FONT_FILES: Array<{ file: string; weight: number; style: 'normal' | 'italic'; range: string; headerFooter: boolean }> = [
   { file: 'source-sans-3-latin-400-normal.woff2', weight: 400, style: 'normal', range: LATIN, headerFooter: true },
-  { file: 'source-sans-3-latin-600-normal.woff2', weight: 600, style: 'normal', range: LATIN, headerFooter: true },
+  { file: 'source-sans-3-latin-600-normal.woff2', weight: 600, style: 'normal', range: LATIN, headerFooter: false },
   { file: 'source-sans-3-latin-700-normal.woff2', weight: 700, style: 'normal', range: LATIN, headerFooter: true },
   { file: 'source-sans-3-latin-400-italic.woff2', weight: 400, style: 'italic', range: LATIN, headerFooter: false },
   { file: 'source-sans-3-latin-ext-400-normal.woff2', weight: 400, style: 'normal', range: LATIN_EXT, headerFooter: false },
