@@ -16,6 +16,7 @@ export type RouteName =
   | 'account'
   | 'run'
   | 'run-review'
+  | 'outbox'
   | 'not-found'
 
 declare module 'vue-router' {
@@ -57,6 +58,7 @@ const routes: NamedRoute[] = [
   { path: '/people', name: 'people', component: () => import('@/views/PeopleView.vue'), meta: { roles: ['admin'], title: 'People' } },
   { path: '/runs/:runId', name: 'run', component: () => import('@/views/RunView.vue'), meta: { title: 'Run', offline: true }, props: true },
   { path: '/runs/:runId/review', name: 'run-review', component: () => import('@/views/RunReviewView.vue'), meta: { title: 'Review' }, props: true },
+  { path: '/outbox', name: 'outbox', component: () => import('@/views/OutboxView.vue'), meta: { roles: ['admin'], title: 'Outbox' } },
   { path: '/account', name: 'account', component: () => import('@/views/AccountView.vue'), meta: { title: 'Account' } },
   { path: '/:pathMatch(.*)*', name: 'not-found', component: () => import('@/views/NotFoundView.vue'), meta: { title: 'Not found' } },
 ]
