@@ -7,7 +7,7 @@ import type { ReportInput, SignatureRecord } from '@shared/types/report'
 import type { FindingSummary, RunReading } from '@shared/types/run'
 import { convert, convertDifference, displayUnit, formatNumber, formatQuantity, fromCanonical, unitLabel, unitSpec, type QuantityKind, type UnitSystem } from '@shared/units'
 // The design-point rows the equipment pages show, in the project's units (pure functions; no Vue inside).
-import { designPointRows, designPointUnit } from '../../client/composables/useDesignPoint'
+import { designPointRows, designPointUnit } from '@shared/format/design-point'
 
 /** A verdict as printed: its key (for the shape) and its word. */
 export interface VerdictView {

@@ -1,6 +1,7 @@
 import { randomUUID } from 'node:crypto'
 import type request from 'supertest'
 import { installStarterLibrary } from '../../server/services/starter-library'
+import { designPoint } from '../shared/fixtures'
 import { makeOrganization, makeProject, makeUser, signedInAgent, TEST_PASSWORD, type TestContext } from './context'
 
 // A 2×2 PNG drawn by signature_pad would be larger; this is a valid PNG of the right type for the API.
@@ -9,15 +10,7 @@ export const SIGNATURE = `data:image/png;base64,${Buffer.from(
   'base64',
 ).toString('base64')}`
 
-export const chiller = {
-  tag: 'CH-7', kind: 'centrifugal_chiller', manufacturer: 'Test Works', model: 'TW-500', serialNumber: 'TW-7',
-  designPoint: {
-    refrigerant: 'R-134a', capacity: { value: 500, unit: 'TR' },
-    evaporatorEnteringWaterTemp: { value: 54, unit: 'degF' }, evaporatorLeavingWaterTemp: { value: 44, unit: 'degF' }, evaporatorWaterFlow: { value: 1200, unit: 'gpm' },
-    condenserEnteringWaterTemp: { value: 85, unit: 'degF' }, condenserLeavingWaterTemp: { value: 94.3, unit: 'degF' }, condenserWaterFlow: { value: 1500, unit: 'gpm' },
-    oilPressureSetpoint: { value: 35, unit: 'psid' },
-  },
-}
+export const chiller = { tag: 'CH-7', kind: 'centrifugal_chiller', manufacturer: 'Test Works', model: 'TW-500', serialNumber: 'TW-7', designPoint }
 
 /** A run whose every step but the running oil checks is not applicable (with a reason), and those two filled. */
 export async function readyRun(ctx: TestContext) {

@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
 import { createHash } from 'node:crypto'
+import { designPoint } from '../shared/fixtures'
 import { createTestContext, makeOrganization, makeProject, makeUser, resetDatabase, signedInAgent, type TestContext } from '../helpers/context'
 
 let ctx: TestContext
@@ -14,24 +15,11 @@ const chiller = {
   tag: 'ch-1',
   kind: 'centrifugal_chiller',
   location: 'Central plant, level B1',
-  manufacturer: 'Northwind Refrigeration Works',
-  model: 'NRW-500C',
+  manufacturer: 'Greyling Refrigeration Works',
+  model: 'GRW-500C',
   serialNumber: 'NRW-24-00917',
   yearBuilt: 2025,
-  designPoint: {
-    refrigerant: 'R-134a',
-    capacity: { value: 500, unit: 'TR' },
-    evaporatorEnteringWaterTemp: { value: 54, unit: 'degF' },
-    evaporatorLeavingWaterTemp: { value: 44, unit: 'degF' },
-    evaporatorWaterFlow: { value: 1200, unit: 'gpm' },
-    condenserEnteringWaterTemp: { value: 85, unit: 'degF' },
-    condenserLeavingWaterTemp: { value: 94.3, unit: 'degF' },
-    condenserWaterFlow: { value: 1500, unit: 'gpm' },
-    designKwPerTon: { value: 0.576, unit: 'kWPerTon' },
-    voltage: { value: 460, unit: 'V' },
-    fullLoadAmps: { value: 420, unit: 'A' },
-    oilPressureSetpoint: { value: 35, unit: 'psid' },
-  },
+  designPoint: structuredClone(designPoint),
 }
 
 // 1×1 pixel PNG (a valid image file) and bytes that only claim to be one.

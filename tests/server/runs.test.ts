@@ -3,6 +3,7 @@ import { afterAll, beforeAll, beforeEach, describe, expect, inject, it } from 'v
 import request from 'supertest'
 import { startCluster, stopCluster } from '../../server/db/cluster'
 import { installStarterLibrary } from '../../server/services/starter-library'
+import { designPoint } from '../shared/fixtures'
 import { createTestContext, makeOrganization, makeProject, makeUser, resetDatabase, signedInAgent, type TestContext } from '../helpers/context'
 
 let ctx: TestContext
@@ -12,28 +13,8 @@ beforeAll(async () => {
 afterAll(() => ctx.close())
 beforeEach(() => resetDatabase(ctx.db))
 
-// An invented 500-ton machine at the AHRI 550/590 rating conditions (REFERENCES.md §1), oil setpoint 35 psid (§7, common practice).
-const chiller = {
-  tag: 'CH-1',
-  kind: 'centrifugal_chiller',
-  manufacturer: 'Test Works',
-  model: 'TW-500',
-  serialNumber: 'TW-1',
-  designPoint: {
-    refrigerant: 'R-134a',
-    capacity: { value: 500, unit: 'TR' },
-    evaporatorEnteringWaterTemp: { value: 54, unit: 'degF' },
-    evaporatorLeavingWaterTemp: { value: 44, unit: 'degF' },
-    evaporatorWaterFlow: { value: 1200, unit: 'gpm' },
-    condenserEnteringWaterTemp: { value: 85, unit: 'degF' },
-    condenserLeavingWaterTemp: { value: 94.3, unit: 'degF' },
-    condenserWaterFlow: { value: 1500, unit: 'gpm' },
-    designKwPerTon: { value: 0.576, unit: 'kWPerTon' },
-    voltage: { value: 460, unit: 'V' },
-    fullLoadAmps: { value: 420, unit: 'A' },
-    oilPressureSetpoint: { value: 35, unit: 'psid' },
-  },
-}
+// The invented 500-ton machine of the shared fixtures (AHRI 550/590 rating conditions, oil setpoint 35 psid).
+const chiller = { tag: 'CH-1', kind: 'centrifugal_chiller', manufacturer: 'Test Works', model: 'TW-500', serialNumber: 'TW-1', designPoint }
 const PNG = Buffer.from('iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAYAAAAfFcSJAAAADUlEQVR42mP8z8DwHwAFBQIAX8jx0gAAAABJRU5ErkJggg==', 'base64')
 
 async function scenario() {

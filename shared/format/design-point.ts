@@ -1,5 +1,5 @@
-import { DESIGN_POINT_LABELS, DESIGN_POINT_QUANTITIES, designPointKeysFor, isDesignPointKey, type DesignPointKey, type EquipmentKind } from '@shared/schemas/design-point'
-import { displayUnit, formatQuantity, fromCanonical, unitLabel, type UnitSystem } from '@shared/units'
+import { DESIGN_POINT_LABELS, DESIGN_POINT_QUANTITIES, designPointKeysFor, isDesignPointKey, type DesignPointKey, type EquipmentKind } from '../schemas/design-point'
+import { displayUnit, formatQuantity, fromCanonical, unitLabel, type UnitSystem } from '../units'
 
 export interface DesignPointRow {
   key: DesignPointKey
