@@ -2,7 +2,6 @@ import { describe, expect, it } from 'vitest'
 import { mount } from '@vue/test-utils'
 import type { ChecklistDefinition, ChecklistField } from '@shared/schemas/checklist'
 import { SAMPLE_DESIGN_POINTS, describeRule, exampleRamp, previewEvaluate, type PreviewContext } from '@/composables/useTemplatePreview'
-import TemplateEditorVerdict from '@/components/TemplateEditorVerdict.vue'
 import TemplateDiffEntry from '@/components/TemplateDiffEntry.vue'
 
 const flow: ChecklistField = {
@@ -47,20 +46,6 @@ describe('technician preview', () => {
     const r = previewEvaluate(oil, { value: ramp.points, unit: 'psid', driveStartS: ramp.driveStartS }, ctx())
     expect(r.ok && r.evaluation.verdict).toBe('pass')
     expect(describeRule(oil, ctx())).toBe('Reach 35 psid within 30 s of the start command; hold at or above it for 20 s before the drive starts; never fall below 25 psid afterwards.')
-  })
-})
-
-describe('TemplateEditorVerdict', () => {
-  it.each([
-    ['pass', 'Pass', 'circle'],
-    ['marginal', 'Marginal', 'path'],
-    ['fail', 'Fail', 'rect'],
-    ['incomplete', 'Incomplete', 'circle'],
-  ] as const)('when the verdict is %s, then the word %s is shown beside its own shape', (verdict, word, shape) => {
-    const wrapper = mount(TemplateEditorVerdict, { props: { verdict, message: 'Oil pressure 18 psid is below the minimum 25 psid' } })
-    expect(wrapper.find('strong').text()).toBe(word)
-    expect(wrapper.find(`svg ${shape}`).exists()).toBe(true)
-    expect(wrapper.attributes('aria-label')).toBe(`${word}: Oil pressure 18 psid is below the minimum 25 psid`)
   })
 })
 
