@@ -1,6 +1,6 @@
 import type { SignatureMeaning, SignatureRecord } from '@shared/types/report'
 import type { RunDetail } from '@shared/types/run'
-import { http } from './http'
+import { ApiError, http } from './http'
 
 export type ReportStatus = 'pending' | 'ready' | 'failed'
 
@@ -78,4 +78,41 @@ export const OUTBOX_STATUS_WORDS: Record<OutboxStatus, string> = {
 export const MEANING_STATEMENTS: Record<SignatureMeaning, string> = {
   performed_by: 'I performed this start-up and the readings are true.',
   accepted_by: 'I witnessed and accept this start-up on behalf of the owner.',
+}
+
+/** What the signing dialog says for a refused signature: on a field, or as a problem above the form; `reload` asks for the review again. */
+export interface SignRefusal {
+  field: 'password' | 'signatureImage' | null
+  fieldMessage: string | null
+  problem: { type: 'error' | 'warning'; title: string; detail?: string; items?: string[] } | null
+  reload: boolean
+}
+
+export function describeSignRefusal(err: unknown): SignRefusal {
+  const none = { field: null, fieldMessage: null, problem: null, reload: false }
+  if (!(err instanceof ApiError)) return { ...none, problem: { type: 'error', title: err instanceof Error ? err.message : String(err) } }
+  switch (err.code) {
+    case 'wrong_password':
+      return { ...none, field: 'password', fieldMessage: `${err.fields.password ?? 'Password is incorrect'}: nothing was signed. Type it again.` }
+    case 'invalid_signature_image':
+      return { ...none, field: 'signatureImage', fieldMessage: err.fields.signatureImage ?? err.message }
+    case 'run_changed':
+      return {
+        ...none,
+        reload: true,
+        problem: {
+          type: 'warning',
+          title: 'The run changed after you opened the review.',
+          detail: 'The review has been loaded again and the summary above shows the run as it is now. Check it, then sign again.',
+        },
+      }
+    case 'not_ready':
+      return { ...none, reload: true, problem: { type: 'error', title: 'The run cannot be signed yet.', items: err.fields.review ? err.fields.review.split('; ') : [err.message] } }
+    case 'already_signed':
+    case 'not_submitted':
+      return { ...none, reload: true, problem: { type: 'warning', title: err.message, detail: 'The review has been loaded again.' } }
+    default:
+      if (err.status === 403) return { ...none, problem: { type: 'error', title: 'You cannot sign this run.', detail: err.message } }
+      return { ...none, problem: { type: 'error', title: err.message } }
+  }
 }
