@@ -78,6 +78,30 @@ try {
       await new Promise((r) => setTimeout(r, 400))
       await page.screenshot({ path: path.join(out, 'admin-equipment-edit.png') })
     }
+    // The template library: the starter chiller template, a draft with one changed limit, and the diff between them.
+    const template = await page.evaluate(async () => {
+      const list = (await (await fetch('/api/templates')).json()).templates as { id: string; key: string; draftNumber: number | null }[]
+      const chillerTemplate = list.find((t) => t.key === 'centrifugal-chiller-startup')!
+      if (!chillerTemplate.draftNumber) {
+        const draft = (await (await fetch(`/api/templates/${chillerTemplate.id}/versions`, { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: '{}' })).json()).version
+        const definition = draft.definition
+        const oil = definition.sections.flatMap((s: { steps: { fields: { id: string; rule?: Record<string, number> }[] }[] }) => s.steps.flatMap((st) => st.fields)).find((f: { id: string }) => f.id === 'oilTempRunning')
+        if (oil?.rule) oil.rule.max = 160
+        await fetch(`/api/templates/${chillerTemplate.id}/versions/${draft.number}`, { method: 'PUT', headers: { 'Content-Type': 'application/json' }, body: JSON.stringify({ definition }) })
+        return { id: chillerTemplate.id, draft: draft.number as number }
+      }
+      return { id: chillerTemplate.id, draft: chillerTemplate.draftNumber }
+    })
+    for (const [name, route] of [
+      ['admin-templates', '/templates'],
+      ['admin-template', `/templates/${template.id}`],
+      ['admin-template-editor', `/templates/${template.id}/versions/${template.draft}/edit`],
+      ['admin-template-diff', `/templates/${template.id}/diff?from=1&to=${template.draft}`],
+      ['admin-outbox', '/outbox'],
+    ] as const) {
+      await page.goto(`${base}${route}`, { waitUntil: 'networkidle0' })
+      await page.screenshot({ path: path.join(out, `${name}.png`) })
+    }
     await context.close()
   }
   await shootProject()
