@@ -30,6 +30,8 @@ export async function startServer(config: Config): Promise<RunningServer> {
   const services = app.locals.services as { mail: MailService; reports: ReportService; renderer: ReportRenderer }
   const mail = services.mail
   mail.startWorker()
+  const seal = await services.renderer.prepare()
+  console.log(`Reports are sealed with "${seal.commonName}" (SHA-256 ${seal.fingerprintSha256.slice(0, 16)}…${seal.created ? ', created now' : ''}${seal.selfSigned ? ', self-signed' : ''})`)
   const queue = new ReportQueue(config.DATABASE_URL, services.reports)
   await queue.start()
   const server = await new Promise<Server>((resolve, reject) => {

@@ -15,6 +15,8 @@ import { localTime, type SigningService } from './signing.service'
 
 /** Turns the report input into the sealed PDF (Chromium rendering, then the organisation's PKCS#7 seal). */
 export interface ReportRenderer {
+  /** Opens (or, for the demo, creates) the organisation's signing certificate; says which one. */
+  prepare(): Promise<{ commonName: string; fingerprintSha256: string; created: boolean; selfSigned: boolean }>
   render(input: ReportInput): Promise<{ pdf: Buffer; sealInfo: Record<string, unknown> }>
   close(): Promise<void>
 }

@@ -34,8 +34,9 @@ export async function startProduct(database: string): Promise<RunningProduct> {
 
   const port = await freePort()
   const storage = `/tmp/startproof-e2e-files-${database}`
+  const certs = `/tmp/startproof-e2e-certs-${database}`
   const server = await startServer(
-    loadConfig({ NODE_ENV: 'test', DATABASE_URL: url, PORT: String(port), HOST: '127.0.0.1', CLIENT_DIST: inject('clientDist'), STORAGE_DIR: storage }),
+    loadConfig({ NODE_ENV: 'test', DATABASE_URL: url, PORT: String(port), HOST: '127.0.0.1', CLIENT_DIST: inject('clientDist'), STORAGE_DIR: storage, CERT_DIR: certs }),
   )
   const browser = await launchChromium()
   return {
