@@ -17,11 +17,11 @@ afterAll(() => product?.stop())
 const sel = (test: string) => `[data-test="${test}"]`
 
 /**
- * Through the API with the page's session: the technician starts the chiller start-up on CH-2, marks every step not
+ * Through the API with the page's session: the technician starts the chiller start-up on a chiller (CH-2 by default), marks every step not
  * applicable with a reason except the running oil checks, and fills those two (36 psid, 125 °F: both pass).
  */
-async function prepareSignableRun(page: Page): Promise<string> {
-  return page.evaluate(async () => {
+async function prepareSignableRun(page: Page, tag = 'CH-2'): Promise<string> {
+  return page.evaluate(async (tag: string) => {
     const json = async (url: string, init?: RequestInit) => {
       const res = await fetch(url, { headers: { 'Content-Type': 'application/json', Accept: 'application/json' }, ...init })
       if (!res.ok) throw new Error(`${init?.method ?? 'GET'} ${url}: ${res.status} ${await res.text()}`)
@@ -31,7 +31,7 @@ async function prepareSignableRun(page: Page): Promise<string> {
     const { projects } = await json('/api/projects')
     const project = projects.find((p: { code: string }) => p.code === 'VXH-CUP')
     const { equipment } = await json(`/api/projects/${project.id}/equipment`)
-    const ch2 = equipment.find((e: { tag: string }) => e.tag === 'CH-2')
+    const ch2 = equipment.find((e: { tag: string }) => e.tag === tag)
     const { templates } = await json('/api/templates')
     const template = templates.find((t: { key: string }) => t.key === 'centrifugal-chiller-startup')
     const { run } = await json(`/api/equipment/${ch2.id}/runs`, { method: 'POST', body: JSON.stringify({ templateId: template.id }) })
@@ -44,7 +44,7 @@ async function prepareSignableRun(page: Page): Promise<string> {
     await put(`/api/runs/${run.id}/readings/oilPressureRunning`, { changeId: crypto.randomUUID(), baseVersion: 0, entry: { value: 36, unit: 'psid' } })
     await put(`/api/runs/${run.id}/readings/oilTempRunning`, { changeId: crypto.randomUUID(), baseVersion: 0, entry: { value: 125, unit: 'degF' } })
     return run.id as string
-  })
+  }, tag)
 }
 
 /** A looping stroke across the signature canvas with the mouse, as a finger would draw it. */
@@ -163,5 +163,50 @@ describe('sign-off in the browser', { timeout: 150_000 }, () => {
     }
     await page.browserContext().close()
     expect(Date.now() - started).toBeLessThan(90_000)
+  })
+
+  it('when the owner’s representative returns the run with comments, then it goes back to the technician and the voided signature stays on record with the comments', async () => {
+    const tech = demoPerson('technician')
+    const rep = demoPerson('owner_rep')
+    const techPage = await freshPage(product)
+    await signIn(product, techPage, tech.email, tech.password)
+    await techPage.waitForSelector(sel('my-runs'))
+    const runId = await prepareSignableRun(techPage, 'CH-1')
+    await techPage.goto(`${product.base}/runs/${runId}/review`, { waitUntil: 'networkidle0' })
+    await techPage.waitForFunction(() => document.querySelector('[data-test=review-can-sign]')?.textContent === 'Ready to sign.')
+    await techPage.click(sel('sign-performer'))
+    await drawSignature(techPage)
+    await typePassword(techPage, tech.password)
+    await techPage.click(sel('sign-submit'))
+    await techPage.waitForSelector(sel('signature-performed_by'), { timeout: 15_000 })
+
+    const repPage = await freshPage(product)
+    await signIn(product, repPage, rep.email, rep.password)
+    await repPage.waitForSelector(sel(`open-review-${runId}`), { visible: true, timeout: 15_000 })
+    await repPage.click(sel(`open-review-${runId}`))
+    await repPage.waitForSelector(sel('return-run'), { visible: true, timeout: 15_000 })
+    await repPage.click(sel('return-run'))
+    await repPage.waitForSelector(sel('return-submit'), { visible: true })
+    // Comments are required: nothing is sent without them.
+    await repPage.type(`input${sel('return-password')}`, rep.password)
+    await repPage.click(sel('return-submit'))
+    await repPage.waitForFunction(() => /Say what must change/.test(document.querySelector('[data-test=return-dialog]')?.textContent ?? document.body.textContent ?? ''))
+    const comments = 'Record the running oil pressure again after the oil has warmed up.'
+    await repPage.type(`textarea${sel('return-comments')}`, comments)
+    await repPage.click(sel('return-submit'))
+    await repPage.waitForFunction(() => /Returned for changes/.test(document.querySelector('[data-test=review-run-state]')?.textContent ?? ''), { timeout: 15_000 })
+    expect(await repPage.$(sel('sign-accept'))).toBeNull()
+    const voided = await repPage.waitForSelector(sel('signature-performed_by-voided'), { timeout: 15_000 })
+    const voidText = await voided!.evaluate((el) => el.textContent ?? '')
+    expect(voidText).toContain(tech.displayName)
+    expect(voidText).toContain('Voided')
+    expect(voidText).toContain(comments)
+
+    // The technician sees it back on the review with the performer's button again.
+    await techPage.reload({ waitUntil: 'networkidle0' })
+    await techPage.waitForSelector(sel('sign-performer'), { visible: true, timeout: 15_000 })
+    expect(await techPage.$eval(sel('review-run-state'), (el) => el.textContent)).toContain('Returned for changes')
+    await techPage.browserContext().close()
+    await repPage.browserContext().close()
   })
 })
