@@ -14,6 +14,8 @@ import { PostgresRateLimitStore } from './middleware/pg-rate-limit-store'
 import { equipmentRoutes } from './routes/equipment.routes'
 import { projectRoutes } from './routes/project.routes'
 import { outboxRoutes } from './routes/outbox.routes'
+import { verifyRoutes } from './routes/verify.routes'
+import { VerifyService } from './services/verify.service'
 import { runRoutes } from './routes/run.routes'
 import { templateRoutes } from './routes/template.routes'
 import { SESSION_COOKIE, sessionRoutes } from './routes/session.routes'
@@ -106,6 +108,7 @@ export function createApp({ config, db }: AppDeps): Express {
   api.use(passport.initialize())
   api.use(passport.session())
   api.use(sessionRoutes({ config, passport, users, rateLimitStore: new PostgresRateLimitStore(db) }))
+  api.use('/verify', verifyRoutes(new VerifyService(db), new PostgresRateLimitStore(db, 'verify:')))
   api.use('/users', requireAuth, userRoutes(users))
   api.use('/projects/:projectId/equipment', requireAuth, equipmentRouters.byProject)
   api.use('/projects', requireAuth, projectRoutes(projects))

@@ -27,6 +27,13 @@ export async function readyRun(ctx: TestContext) {
   const template = (await adminAgent.get('/api/templates')).body.templates.find((t: { key: string }) => t.key === 'centrifugal-chiller-startup')
   const techAgent = await signedInAgent(ctx.app, tech)
   const run = (await techAgent.post(`/api/equipment/${equipment.id}/runs`).send({ templateId: template.id }).expect(201)).body.run
+  await makeSignable(techAgent, run)
+  const repAgent = await signedInAgent(ctx.app, rep)
+  return { org, admin, tech, rep, otherRep, project, equipment, template, run, techAgent, repAgent, adminAgent }
+}
+
+/** Marks every step but the running oil checks not applicable (with a reason) and fills those two, so the run can be signed. */
+export async function makeSignable(techAgent: request.Agent, run: { id: string; definition: { sections: { steps: { id: string }[] }[] } }) {
   for (const section of run.definition.sections) {
     for (const step of section.steps) {
       if (step.id === 'oil-running') continue
@@ -35,8 +42,6 @@ export async function readyRun(ctx: TestContext) {
   }
   await techAgent.put(`/api/runs/${run.id}/readings/oilPressureRunning`).send({ changeId: randomUUID(), baseVersion: 0, entry: { value: 36, unit: 'psid' } }).expect(200)
   await techAgent.put(`/api/runs/${run.id}/readings/oilTempRunning`).send({ changeId: randomUUID(), baseVersion: 0, entry: { value: 125, unit: 'degF' } }).expect(200)
-  const repAgent = await signedInAgent(ctx.app, rep)
-  return { org, admin, tech, rep, otherRep, project, run, techAgent, repAgent, adminAgent }
 }
 
 export const snapshotOf = async (agent: request.Agent, runId: string) => (await agent.get(`/api/runs/${runId}/review`)).body.review.snapshotSha256 as string

@@ -1,0 +1,146 @@
+import { createHash } from 'node:crypto'
+import type { DataSource } from 'typeorm'
+import { verifySealedPdf, type SealVerification } from '../reports'
+import { AppError } from '../errors/app-error'
+
+export type VerifyOutcome = 'genuine_current' | 'genuine_superseded' | 'altered' | 'unknown'
+
+/** What anyone may learn about a report: DESIGN.md keeps everything else to people with access. */
+export interface PublicReportFacts {
+  reportNumber: string
+  equipmentTag: string
+  projectName: string
+  acceptedAt: string | null
+  verdict: 'pass' | 'marginal' | 'fail'
+}
+
+export interface VerifyAnswer {
+  outcome: VerifyOutcome
+  /** One plain sentence for the page's headline. */
+  headline: string
+  reasons: string[]
+  report: PublicReportFacts | null
+  /** The newer report of the same equipment and checklist, when this one was superseded. */
+  supersededBy: PublicReportFacts | null
+  sha256: string | null
+}
+
+const REPORT_NUMBER = /SP-\d{4}-\d{6}/
+
+interface ReportRow {
+  id: string
+  report_number: string
+  equipment_id: string
+  template_id: string
+  tag: string
+  project_name: string
+  accepted_at: Date | null
+  fails: number
+  marginals: number
+  ready_at: Date
+}
+
+const FACTS_SQL = `
+  SELECT r.id, r.report_number, run.equipment_id, v.template_id, e.tag, p.name AS project_name, r.ready_at,
+         (SELECT max(s.signed_at) FROM signature s WHERE s.run_id = run.id AND s.meaning = 'accepted_by' AND NOT s.voided) AS accepted_at,
+         (SELECT count(*)::int FROM reading x WHERE x.run_id = run.id AND x.verdict = 'fail' AND NOT x.not_applicable) AS fails,
+         (SELECT count(*)::int FROM reading x WHERE x.run_id = run.id AND x.verdict = 'marginal' AND NOT x.not_applicable) AS marginals
+    FROM report r JOIN run ON run.id = r.run_id JOIN equipment e ON e.id = run.equipment_id
+    JOIN project p ON p.id = run.project_id JOIN template_version v ON v.id = run.template_version_id
+   WHERE r.status = 'ready'`
+
+function facts(row: ReportRow): PublicReportFacts {
+  return {
+    reportNumber: row.report_number,
+    equipmentTag: row.tag,
+    projectName: row.project_name,
+    acceptedAt: row.accepted_at ? new Date(row.accepted_at).toISOString() : null,
+    verdict: row.fails > 0 ? 'fail' : row.marginals > 0 ? 'marginal' : 'pass',
+  }
+}
+
+/** Tells whether a PDF is a genuine archived report (current or superseded), an altered one, or unknown here. */
+export class VerifyService {
+  constructor(private readonly db: DataSource) {}
+
+  private async successor(row: ReportRow): Promise<ReportRow | null> {
+    const [newer] = (await this.db.query(`${FACTS_SQL} AND run.equipment_id = $1 AND v.template_id = $2 AND r.ready_at > $3 ORDER BY r.ready_at DESC LIMIT 1`, [
+      row.equipment_id,
+      row.template_id,
+      row.ready_at,
+    ])) as ReportRow[]
+    return newer ?? null
+  }
+
+  private async answerFor(row: ReportRow, reasons: string[], sha256: string | null): Promise<VerifyAnswer> {
+    const newer = await this.successor(row)
+    if (newer) {
+      return {
+        outcome: 'genuine_superseded',
+        headline: `Genuine report ${row.report_number}, superseded by ${newer.report_number}`,
+        reasons: [...reasons, `A later start-up of ${row.tag} with the same checklist was accepted and issued as ${newer.report_number}.`],
+        report: facts(row),
+        supersededBy: facts(newer),
+        sha256,
+      }
+    }
+    return { outcome: 'genuine_current', headline: `Genuine report ${row.report_number}, and it is the current one`, reasons, report: facts(row), supersededBy: null, sha256 }
+  }
+
+  /** The state of a report number (the QR code's link): genuine and current, superseded, or unknown. */
+  async byNumber(reportNumber: string): Promise<VerifyAnswer> {
+    const [row] = (await this.db.query(`${FACTS_SQL} AND r.report_number = $1`, [reportNumber])) as ReportRow[]
+    if (!row) return { outcome: 'unknown', headline: `No issued report ${reportNumber} is in this archive`, reasons: ['The number may be mistyped, or the report was issued elsewhere.'], report: null, supersededBy: null, sha256: null }
+    return this.answerFor(row, [`Report ${reportNumber} is in the archive.`], null)
+  }
+
+  /** Checks an uploaded file: its SHA-256 against the archive first, then its embedded seal. */
+  async check(file: Buffer): Promise<VerifyAnswer> {
+    if (!file.length) throw new AppError('empty_file', 'The file is empty', 400, { file: 'The file is empty' })
+    if (!file.subarray(0, 1024).includes('%PDF-')) {
+      throw new AppError('not_pdf', 'This file is not a PDF; only the PDF report itself can be checked', 415, { file: 'Not a PDF' })
+    }
+    const sha256 = createHash('sha256').update(file).digest('hex')
+    const [archived] = (await this.db.query(`${FACTS_SQL} AND r.sha256 = $1`, [sha256])) as ReportRow[]
+    if (archived) {
+      return this.answerFor(archived, ['The file is byte for byte the one in the archive (same SHA-256).'], sha256)
+    }
+    let seal: SealVerification | null = null
+    try {
+      seal = await verifySealedPdf(file)
+    } catch {
+      seal = null
+    }
+    const claimed = file.toString('latin1').match(REPORT_NUMBER)?.[0] ?? null
+    const [claimedRow] = claimed ? ((await this.db.query(`${FACTS_SQL} AND r.report_number = $1`, [claimed])) as ReportRow[]) : []
+    if (seal?.altered || (claimedRow && seal?.signed)) {
+      return {
+        outcome: 'altered',
+        headline: claimedRow ? `This is not the issued report ${claimedRow.report_number}: it was altered` : 'The file was altered after it was sealed',
+        reasons: [
+          seal?.altered ? 'The digital seal no longer matches the document: bytes were changed after sealing.' : 'The file differs from the archived report with this number.',
+          ...(claimedRow ? [`The archived ${claimedRow.report_number} has a different SHA-256.`] : []),
+        ],
+        report: claimedRow ? facts(claimedRow) : null,
+        supersededBy: null,
+        sha256,
+      }
+    }
+    if (claimedRow) {
+      return {
+        outcome: 'altered',
+        headline: `This is not the issued report ${claimedRow.report_number}`,
+        reasons: ['It names an archived report but its bytes differ and it carries no valid seal.'],
+        report: facts(claimedRow),
+        supersededBy: null,
+        sha256,
+      }
+    }
+    const reasons = seal === null
+      ? ['The file could not be read as a sealed PDF (it may be damaged).']
+      : seal.signed
+        ? [`It carries a seal${seal.signerCommonName ? ` by "${seal.signerCommonName}"` : ''}, but no report with this content is in this archive.`]
+        : ['It carries no digital seal and matches no archived report.']
+    return { outcome: 'unknown', headline: 'This archive does not know this document', reasons, report: null, supersededBy: null, sha256 }
+  }
+}

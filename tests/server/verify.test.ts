@@ -1,0 +1,87 @@
+import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
+import request from 'supertest'
+import { PDFDocument } from 'pdf-lib'
+import type { ReportRenderer, ReportService } from '../../server/services/report.service'
+import { createTestContext, resetDatabase, type TestContext } from '../helpers/context'
+import { makeSignable, readyRun, sign } from '../helpers/runs'
+
+let ctx: TestContext
+const services = () => ctx.app.locals.services as { reports: ReportService; renderer: ReportRenderer }
+
+beforeAll(async () => {
+  ctx = await createTestContext({ CERT_DIR: `/tmp/startproof-verify-certs-${process.pid}` })
+})
+afterAll(async () => {
+  await services().renderer.close()
+  await ctx.close()
+})
+beforeEach(() => resetDatabase(ctx.db))
+
+type Scenario = Awaited<ReturnType<typeof readyRun>>
+
+async function acceptAndIssue(s: Scenario, runId: string): Promise<{ pdf: Buffer; reportNumber: string }> {
+  expect((await sign(s.techAgent, runId, 'performed_by')).status).toBe(201)
+  expect((await sign(s.repAgent, runId, 'accepted_by')).status).toBe(201)
+  const pending = (await s.repAgent.get(`/api/runs/${runId}/report`)).body.report
+  await services().reports.process(pending.id)
+  const res = await s.repAgent.get(`/api/runs/${runId}/report.pdf`).buffer(true).parse((r, cb) => {
+    const chunks: Buffer[] = []
+    r.on('data', (c: Buffer) => chunks.push(c))
+    r.on('end', () => cb(null, Buffer.concat(chunks)))
+  })
+  return { pdf: res.body as Buffer, reportNumber: pending.reportNumber }
+}
+
+const check = (file: Buffer, name = 'report.pdf') => request(ctx.app).post('/api/verify').attach('file', file, { filename: name, contentType: 'application/pdf' })
+
+describe('/api/verify (public)', () => {
+  it('when the archived PDF is uploaded, then it is genuine and current; one flipped byte makes it altered; a re-test supersedes it', async () => {
+    const s = await readyRun(ctx)
+    const first = await acceptAndIssue(s, s.run.id)
+
+    const genuine = await check(first.pdf)
+    expect(genuine.status).toBe(200)
+    expect(genuine.body.answer).toMatchObject({ outcome: 'genuine_current', report: { reportNumber: first.reportNumber, equipmentTag: 'CH-7', verdict: 'pass' } })
+    // The public answer holds only the report number, tag, project, acceptance date and verdict.
+    expect(Object.keys(genuine.body.answer.report).sort()).toEqual(['acceptedAt', 'equipmentTag', 'projectName', 'reportNumber', 'verdict'])
+
+    const altered = Buffer.from(first.pdf)
+    const at = altered.indexOf('/Type /Page') + 3
+    altered[at] ^= 0x01
+    const tampered = await check(altered)
+    expect(tampered.body.answer.outcome).toBe('altered')
+    expect(tampered.body.answer.reasons.join(' ')).toMatch(/changed after sealing|differs from the archived/)
+
+    const retest = (await s.techAgent.post(`/api/equipment/${s.equipment.id}/runs`).send({ templateId: s.template.id }).expect(201)).body.run
+    await makeSignable(s.techAgent, retest)
+    const second = await acceptAndIssue(s, retest.id)
+    const old = await check(first.pdf)
+    expect(old.body.answer).toMatchObject({ outcome: 'genuine_superseded', supersededBy: { reportNumber: second.reportNumber } })
+    const byNumber = await request(ctx.app).get(`/api/verify/${second.reportNumber}`)
+    expect(byNumber.body.answer).toMatchObject({ outcome: 'genuine_current', report: { reportNumber: second.reportNumber } })
+  }, 120_000)
+
+  it('when the file is some other PDF, not a PDF, empty or the number is unknown, then the answer says so, never a 500', async () => {
+    const doc = await PDFDocument.create()
+    doc.addPage()
+    const other = Buffer.from(await doc.save())
+
+    const unknown = await check(other)
+    const notPdf = await check(Buffer.from('just some text'), 'notes.txt')
+    const empty = await request(ctx.app).post('/api/verify').attach('file', Buffer.alloc(0), { filename: 'empty.pdf', contentType: 'application/pdf' })
+    const damaged = await check(Buffer.concat([Buffer.from('%PDF-1.7\n'), Buffer.from('garbage'.repeat(100))]))
+    const none = await request(ctx.app).post('/api/verify')
+    const number = await request(ctx.app).get('/api/verify/SP-2026-999999')
+    const badNumber = await request(ctx.app).get('/api/verify/whatever')
+
+    expect(unknown.body.answer).toMatchObject({ outcome: 'unknown', headline: 'This archive does not know this document' })
+    expect(notPdf.status).toBe(415)
+    expect(notPdf.body.error.fields).toEqual({ file: 'Not a PDF' })
+    expect(empty.status).toBe(400)
+    expect(damaged.status).toBe(200)
+    expect(damaged.body.answer.outcome).toBe('unknown')
+    expect(none.status).toBe(400)
+    expect(number.body.answer.outcome).toBe('unknown')
+    expect(badNumber.status).toBe(400)
+  })
+})
