@@ -153,14 +153,23 @@ async function main() {
     if (stopping) return
     stopping = true
     log(`${signal}: stopping …`)
-    for (const child of children) child.kill('SIGTERM')
-    if (server) await server.close().catch((err) => console.error(err))
-    await capture?.close()
-    if (cluster?.startedHere) {
-      stopCluster(cluster.bin, cluster.dataDir, 'fast')
-      log('PostgreSQL stopped')
+    const within = (p: Promise<unknown> | undefined, ms: number) => Promise.race([p?.catch((err) => console.error(err)), new Promise((r) => setTimeout(r, ms))])
+    try {
+      for (const child of children) child.kill('SIGTERM')
+      await within(server?.close(), 15_000)
+      await within(capture?.close(), 3_000)
+    } finally {
+      // The database goes down last and always, whatever happened above.
+      if (cluster?.startedHere) {
+        try {
+          stopCluster(cluster.bin, cluster.dataDir, 'fast')
+          log('PostgreSQL stopped')
+        } catch (err) {
+          console.error(`[startproof] PostgreSQL did not stop cleanly: ${(err as Error).message}`)
+        }
+      }
+      process.exit(0)
     }
-    process.exit(0)
   }
   process.on('SIGINT', () => void stop('SIGINT'))
   process.on('SIGTERM', () => void stop('SIGTERM'))

@@ -68,7 +68,18 @@ const configSchema = yup.object({
     })
     .optional(),
   MAIL_FROM: yup.string().default('Startproof <startproof@startproof.test>'),
-  PUBLIC_URL: yup.string().default('http://localhost:3000'),
+  /** Address people open the product at (mail links, the report's QR code); defaults to http://localhost:PORT. */
+  PUBLIC_URL: yup
+    .string()
+    .test('url', 'PUBLIC_URL must be an http(s) address such as https://startproof.example.com', (v) => {
+      if (!v) return true
+      try {
+        return ['http:', 'https:'].includes(new URL(v).protocol)
+      } catch {
+        return false
+      }
+    })
+    .optional(),
   CERT_DIR: yup.string().default('data/certs'),
   SEAL_P12_PATH: yup.string().optional(),
   SEAL_P12_PASSPHRASE: yup.string().optional(),
@@ -76,7 +87,7 @@ const configSchema = yup.object({
   REPORT_BROWSERS: yup.number().typeError('REPORT_BROWSERS must be a number').integer().min(1).max(8).default(1),
 })
 
-export type Config = yup.InferType<typeof configSchema>
+export type Config = Omit<yup.InferType<typeof configSchema>, 'PUBLIC_URL'> & { PUBLIC_URL: string }
 
 export class ConfigError extends Error {
   constructor(readonly problems: string[]) {
@@ -91,7 +102,8 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     Object.keys(configSchema.fields).map((key) => [key, env[key] === '' ? undefined : env[key]]),
   )
   try {
-    return configSchema.validateSync(input, { abortEarly: false, stripUnknown: true })
+    const config = configSchema.validateSync(input, { abortEarly: false, stripUnknown: true })
+    return { ...config, PUBLIC_URL: (config.PUBLIC_URL ?? `http://localhost:${config.PORT}`).replace(/\/$/, '') }
   } catch (err) {
     if (err instanceof yup.ValidationError) throw new ConfigError(err.errors)
     throw err
