@@ -30,10 +30,10 @@ export async function request<T>(method: Method, url: string, body?: unknown): P
 }
 
 /** Uploads one file as multipart form data (`field` is the form field's name). */
-export async function upload<T>(url: string, field: string, file: File): Promise<T> {
+export async function upload<T>(url: string, field: string, file: File, method: 'PUT' | 'POST' = 'PUT'): Promise<T> {
   const form = new FormData()
   form.append(field, file, file.name)
-  return send<T>('PUT', url, { headers: { Accept: 'application/json' }, body: form })
+  return send<T>(method, url, { headers: { Accept: 'application/json' }, body: form })
 }
 
 async function send<T>(method: Method, url: string, init: { headers: Record<string, string>; body?: BodyInit }): Promise<T> {

@@ -17,6 +17,8 @@ export type RouteName =
   | 'run'
   | 'run-review'
   | 'outbox'
+  | 'verify'
+  | 'verify-number'
   | 'not-found'
 
 declare module 'vue-router' {
@@ -59,6 +61,8 @@ const routes: NamedRoute[] = [
   { path: '/runs/:runId', name: 'run', component: () => import('@/views/RunView.vue'), meta: { title: 'Run', offline: true }, props: true },
   { path: '/runs/:runId/review', name: 'run-review', component: () => import('@/views/RunReviewView.vue'), meta: { title: 'Review' }, props: true },
   { path: '/outbox', name: 'outbox', component: () => import('@/views/OutboxView.vue'), meta: { roles: ['admin'], title: 'Outbox' } },
+  { path: '/verify', name: 'verify', component: () => import('@/views/VerifyView.vue'), meta: { public: true, title: 'Check a report' } },
+  { path: '/verify/:reportNumber', name: 'verify-number', component: () => import('@/views/VerifyView.vue'), meta: { public: true, title: 'Check a report' }, props: true },
   { path: '/account', name: 'account', component: () => import('@/views/AccountView.vue'), meta: { title: 'Account' } },
   { path: '/:pathMatch(.*)*', name: 'not-found', component: () => import('@/views/NotFoundView.vue'), meta: { title: 'Not found' } },
 ]

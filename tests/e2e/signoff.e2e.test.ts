@@ -158,6 +158,18 @@ describe('sign-off in the browser', { timeout: 150_000 }, () => {
       expect(execFileSync('pdffonts', [file], { encoding: 'utf8' })).toMatch(/SourceSans3/)
       const sig = spawnSync('pdfsig', [file], { encoding: 'utf8' })
       expect(`${sig.stdout}${sig.stderr}`).toMatch(/Signature is Valid/)
+
+      // Anyone given the PDF can check it on the public Verify page, signed in or not.
+      const visitor = await freshPage(product)
+      await visitor.goto(`${product.base}/verify`, { waitUntil: 'networkidle0' })
+      const picker = await visitor.waitForSelector('input[data-test=verify-file]')
+      await (picker as unknown as { uploadFile(path: string): Promise<void> }).uploadFile(file)
+      const answer = await visitor.waitForSelector('[data-test=verify-answer]')
+      expect(await answer!.evaluate((el) => el.getAttribute('data-outcome'))).toBe('genuine_current')
+      const verdictText = await answer!.evaluate((el) => (el as HTMLElement).innerText)
+      expect(verdictText).toContain('Genuine and current')
+      expect(verdictText).toContain('CH-2')
+      await visitor.browserContext().close()
     } finally {
       fs.rmSync(file, { force: true })
     }
