@@ -59,3 +59,13 @@ describe('BaseVerdictBadge', () => {
     expect(Number(large.find('svg').attributes('width'))).toBeGreaterThanOrEqual(28)
   })
 })
+
+describe('BaseVerdictBadge with its own word', () => {
+  it('when a word is given, then it replaces the verdict word and the shape stays', () => {
+    const wrapper = mount(BaseVerdictBadge, { props: { verdict: 'marginal', word: 'Genuine, but superseded' } })
+    expect(wrapper.text()).toContain('Genuine, but superseded')
+    expect(wrapper.text()).not.toContain('Marginal')
+    expect(wrapper.find('svg').attributes('data-shape')).toBe('marginal')
+    expect(wrapper.attributes('aria-label')).toBe('Genuine, but superseded')
+  })
+})
