@@ -133,8 +133,35 @@ function buildClientIfStale(distDir: string): void {
   if (r.status !== 0) throw new Error(`vite build failed (exit ${r.status})`)
 }
 
+/**
+ * Reports need Debian's Chromium and the Verify page's seal check uses poppler's pdfsig: install them when missing
+ * (as root, like PostgreSQL); otherwise say what is missing, and the product still runs without them.
+ */
+function ensureReportTools(): void {
+  const missing = [
+    ['chromium', process.env.CHROMIUM_PATH ?? '/usr/bin/chromium'],
+    ['poppler-utils', '/usr/bin/pdfsig'],
+  ].filter(([, file]) => !fs.existsSync(file))
+  if (!missing.length) return
+  const names = missing.map(([name]) => name)
+  if (typeof process.getuid !== 'function' || process.getuid() !== 0) {
+    log(`missing ${names.join(' and ')}: reports cannot be rendered until they are installed (sudo apt-get install -y ${names.join(' ')})`)
+    return
+  }
+  log(`installing ${names.join(' and ')} (apt-get) for the handover reports …`)
+  const env = { ...process.env, DEBIAN_FRONTEND: 'noninteractive' }
+  for (const args of [['update', '-qq'], ['install', '-y', '-qq', ...names]]) {
+    const r = spawnSync('apt-get', args, { stdio: 'inherit', env })
+    if (r.status !== 0) {
+      log(`apt-get ${args.join(' ')} failed (exit ${r.status}); reports will say why they cannot be rendered`)
+      return
+    }
+  }
+}
+
 async function main() {
   const external = Boolean(process.env.DATABASE_URL)
+  ensureReportTools()
   const { url, cluster } = external ? { url: process.env.DATABASE_URL!, cluster: null } : await prepareLocalCluster()
   // Without a mail relay configured, mail goes to a capture server on loopback; the Outbox page shows what was sent.
   let capture: Awaited<ReturnType<typeof startSmtpCapture>> | null = null
