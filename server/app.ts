@@ -15,6 +15,8 @@ import { equipmentRoutes } from './routes/equipment.routes'
 import { projectRoutes } from './routes/project.routes'
 import { outboxRoutes } from './routes/outbox.routes'
 import { verifyRoutes } from './routes/verify.routes'
+import { archiveRoutes } from './routes/archive.routes'
+import { ArchiveService } from './services/archive.service'
 import { VerifyService } from './services/verify.service'
 import { runRoutes } from './routes/run.routes'
 import { templateRoutes } from './routes/template.routes'
@@ -116,6 +118,7 @@ export function createApp({ config, db }: AppDeps): Express {
   api.use('/equipment', requireAuth, equipmentRouters.byId)
   api.use('/runs', requireAuth, runRouters.byId)
   api.use('/outbox', requireAuth, outboxRoutes(db))
+  api.use('/archive', requireAuth, archiveRoutes(new ArchiveService(db)))
   api.use('/templates', requireAuth, templateRoutes(templates))
   api.use(notFoundHandler)
   api.use(errorHandler)

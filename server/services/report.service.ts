@@ -29,6 +29,31 @@ export function reportContentSha256(input: Omit<ReportInput, 'contentSha256'>): 
 
 const MAX_ATTEMPTS = 3
 
+/**
+ * Copies what the archive filters and searches on onto the report as it is issued: project, equipment, checklist,
+ * technician, acceptance time, counts, and a full-text vector over tag, serial, model, notes and findings.
+ */
+async function indexForArchive(tx: import('typeorm').EntityManager, reportId: string, input: ReportInput, acceptedAt: string | null, technicianId: string | null) {
+  const readings = Object.values(input.run.readings)
+  const fails = readings.filter((r) => !r.notApplicable && r.evaluation.verdict === 'fail').length
+  const marginals = readings.filter((r) => !r.notApplicable && r.evaluation.verdict === 'marginal').length
+  const openFindings = input.run.findings.filter((f) => f.status === 'open').length
+  const notes = Object.values(input.run.steps).map((s) => s.note).filter(Boolean).join(' ')
+  const findings = input.run.findings.map((f) => `${f.description} ${f.resolution ?? ''}`).join(' ')
+  await tx.query(
+    `UPDATE report SET project_id = $2, equipment_id = $3, template_id = $4, technician_id = $5, accepted_at = $6,
+            fail_count = $7, marginal_count = $8, open_finding_count = $9,
+            search = setweight(to_tsvector('simple', $10), 'A') || setweight(to_tsvector('english', $11), 'B') || to_tsvector('english', $12)
+      WHERE id = $1`,
+    [
+      reportId, input.project.id, input.equipment.id, input.run.templateId, technicianId, acceptedAt, fails, marginals, openFindings,
+      `${input.equipment.tag} ${input.equipment.tag.replace(/-/g, '')} ${input.equipment.serialNumber} ${input.reportNumber}`,
+      `${input.equipment.manufacturer} ${input.equipment.model} ${input.run.templateName}`,
+      `${notes} ${findings}`,
+    ],
+  )
+}
+
 export interface ReportView {
   id: string
   runId: string
@@ -144,6 +169,10 @@ export class ReportService {
       const { pdf, sealInfo } = await this.deps.renderer().render(input)
       const stored = await this.deps.storage.save(pdf, 'reports', 'pdf')
       await this.db.transaction(async (tx) => {
+        const acceptedBy = input.signatures.find((s) => s.meaning === 'accepted_by' && !s.voided)
+        const performedBy = input.signatures.find((s) => s.meaning === 'performed_by' && !s.voided)
+        // Indexed while the report is still pending: once ready, the row is frozen.
+        await indexForArchive(tx, report.id, input, acceptedBy?.signedAtUtc ?? null, performedBy?.signerId ?? null)
         await tx.getRepository(Report).save({
           ...report,
           status: 'ready' as const,

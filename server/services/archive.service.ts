@@ -1,0 +1,157 @@
+import type { DataSource } from 'typeorm'
+import type { ArchiveQuery } from '@shared/schemas/archive'
+import type { SessionUser } from '@shared/types/api'
+import { AppError } from '../errors/app-error'
+
+export interface ArchiveItem {
+  reportNumber: string
+  runId: string
+  projectId: string
+  projectCode: string
+  projectName: string
+  equipmentId: string
+  equipmentTag: string
+  equipmentKind: string
+  serialNumber: string
+  templateName: string
+  templateVersion: number
+  technicianName: string | null
+  acceptedAt: string
+  failCount: number
+  marginalCount: number
+  openFindingCount: number
+  sha256: string
+  downloadUrl: string
+  /** The report of a later re-test of the same equipment with the same checklist, when there is one. */
+  supersededBy: string | null
+}
+
+export interface ArchivePage {
+  items: ArchiveItem[]
+  total: number
+  nextCursor: string | null
+}
+
+type Cursor = { at: string; id: string }
+const encode = (c: Cursor) => Buffer.from(JSON.stringify(c)).toString('base64url')
+function decode(s: string): Cursor {
+  try {
+    const c = JSON.parse(Buffer.from(s, 'base64url').toString('utf8')) as Cursor
+    if (typeof c.at !== 'string' || typeof c.id !== 'string' || Number.isNaN(Date.parse(c.at))) throw new Error('shape')
+    return c
+  } catch {
+    throw new AppError('invalid_input', 'cursor is not valid; start again from the first page', 400, { 'query.cursor': 'cursor is not valid' })
+  }
+}
+
+/** Issued reports across the projects a person may see: filters, full-text search, keyset pages, counts. */
+export class ArchiveService {
+  constructor(private readonly db: DataSource) {}
+
+  private async visibleProjects(user: SessionUser): Promise<string[]> {
+    const rows: { id: string }[] =
+      user.role === 'admin'
+        ? await this.db.query(`SELECT p.id FROM project p JOIN app_user u ON u.organization_id = p.organization_id WHERE u.id = $1`, [user.id])
+        : await this.db.query(`SELECT project_id AS id FROM project_member WHERE user_id = $1`, [user.id])
+    return rows.map((r) => r.id)
+  }
+
+  /** Unknown or invisible ids are input errors naming their parameter, not empty results that hide a typo. */
+  private async checkIds(user: SessionUser, visible: string[], q: ArchiveQuery) {
+    const bad = (param: string, what: string) => new AppError('invalid_input', `${param} names no ${what} you can see`, 400, { [`query.${param}`]: `No such ${what}` })
+    if (q.projectId && !visible.includes(q.projectId)) throw bad('projectId', 'project')
+    if (q.equipmentId) {
+      const [row] = await this.db.query(`SELECT 1 FROM equipment WHERE id = $1 AND project_id = ANY($2::uuid[])`, [q.equipmentId, visible])
+      if (!row) throw bad('equipmentId', 'equipment')
+    }
+    if (q.templateId) {
+      const [row] = await this.db.query(`SELECT 1 FROM checklist_template t JOIN app_user u ON u.organization_id = t.organization_id WHERE t.id = $1 AND u.id = $2`, [q.templateId, user.id])
+      if (!row) throw bad('templateId', 'template')
+    }
+    if (q.technicianId) {
+      const [row] = await this.db.query(`SELECT 1 FROM app_user t JOIN app_user u ON u.organization_id = t.organization_id WHERE t.id = $1 AND u.id = $2`, [q.technicianId, user.id])
+      if (!row) throw bad('technicianId', 'person')
+    }
+  }
+
+  async search(user: SessionUser, q: ArchiveQuery): Promise<ArchivePage> {
+    const visible = await this.visibleProjects(user)
+    await this.checkIds(user, visible, q)
+    const where: string[] = [`r.status = 'ready'`, `r.project_id = ANY($1::uuid[])`]
+    const params: unknown[] = [visible]
+    const add = (sql: string, value: unknown) => {
+      params.push(value)
+      where.push(sql.replace('?', `$${params.length}`))
+    }
+    if (q.projectId) add('r.project_id = ?', q.projectId)
+    if (q.equipmentId) add('r.equipment_id = ?', q.equipmentId)
+    if (q.templateId) add('r.template_id = ?', q.templateId)
+    if (q.technicianId) add('r.technician_id = ?', q.technicianId)
+    if (q.from) add(`r.accepted_at >= ?::date`, q.from)
+    if (q.to) add(`r.accepted_at < (?::date + 1)`, q.to)
+    if (q.hasFails !== undefined) where.push(q.hasFails ? 'r.fail_count > 0' : 'r.fail_count = 0')
+    if (q.hasOpenFindings !== undefined) where.push(q.hasOpenFindings ? 'r.open_finding_count > 0' : 'r.open_finding_count = 0')
+    if (q.q) {
+      params.push(q.q)
+      where.push(`r.search @@ (websearch_to_tsquery('simple', $${params.length}) || websearch_to_tsquery('english', $${params.length}))`)
+    }
+    const filtered = where.join(' AND ')
+    const [{ total }] = await this.db.query(`SELECT count(*)::int AS total FROM report r WHERE ${filtered}`, params)
+
+    const newest = q.sort !== 'oldest'
+    const pageWhere = [...where]
+    const pageParams = [...params]
+    if (q.cursor) {
+      const c = decode(q.cursor)
+      pageParams.push(c.at, c.id)
+      pageWhere.push(`(r.accepted_at, r.id) ${newest ? '<' : '>'} ($${pageParams.length - 1}::timestamptz, $${pageParams.length}::uuid)`)
+    }
+    pageParams.push(q.limit + 1)
+    const rows: Record<string, unknown>[] = await this.db.query(
+      `SELECT r.report_number, r.run_id, r.project_id, p.code AS project_code, p.name AS project_name, r.equipment_id, e.tag, e.kind,
+              e.serial_number, t.name AS template_name, v.number AS template_version, u.display_name AS technician_name, r.accepted_at,
+              r.fail_count, r.marginal_count, r.open_finding_count, r.sha256, r.id,
+              (SELECT n.report_number FROM report n WHERE n.status = 'ready' AND n.equipment_id = r.equipment_id AND n.template_id = r.template_id
+                  AND n.accepted_at > r.accepted_at ORDER BY n.accepted_at DESC LIMIT 1) AS superseded_by
+         FROM report r
+         JOIN project p ON p.id = r.project_id
+         JOIN equipment e ON e.id = r.equipment_id
+         JOIN checklist_template t ON t.id = r.template_id
+         JOIN run ON run.id = r.run_id
+         JOIN template_version v ON v.id = run.template_version_id
+         LEFT JOIN app_user u ON u.id = r.technician_id
+        WHERE ${pageWhere.join(' AND ')}
+        ORDER BY r.accepted_at ${newest ? 'DESC' : 'ASC'}, r.id ${newest ? 'DESC' : 'ASC'}
+        LIMIT $${pageParams.length}`,
+      pageParams,
+    )
+    const more = rows.length > q.limit
+    const page = rows.slice(0, q.limit)
+    const last = page[page.length - 1]
+    return {
+      total,
+      nextCursor: more && last ? encode({ at: new Date(last.accepted_at as string).toISOString(), id: last.id as string }) : null,
+      items: page.map((r) => ({
+        reportNumber: r.report_number as string,
+        runId: r.run_id as string,
+        projectId: r.project_id as string,
+        projectCode: r.project_code as string,
+        projectName: r.project_name as string,
+        equipmentId: r.equipment_id as string,
+        equipmentTag: r.tag as string,
+        equipmentKind: r.kind as string,
+        serialNumber: r.serial_number as string,
+        templateName: r.template_name as string,
+        templateVersion: r.template_version as number,
+        technicianName: (r.technician_name as string | null) ?? null,
+        acceptedAt: new Date(r.accepted_at as string).toISOString(),
+        failCount: r.fail_count as number,
+        marginalCount: r.marginal_count as number,
+        openFindingCount: r.open_finding_count as number,
+        sha256: r.sha256 as string,
+        downloadUrl: `/api/runs/${r.run_id}/report.pdf`,
+        supersededBy: (r.superseded_by as string | null) ?? null,
+      })),
+    }
+  }
+}
