@@ -3,7 +3,7 @@ import type { Role } from '@shared/types/roles'
 import { designPointSchemaFor, type EquipmentKind } from '@shared/schemas/design-point'
 import { hashPassword } from '../auth/passwords'
 import { Equipment, Organization, Project, ProjectMember, User } from '../entities'
-import { canonicalDesignPoint } from '../services/equipment.service'
+import { canonicalDesignPoint } from '@shared/format/design-point'
 import { installStarterLibrary } from '../services/starter-library'
 
 /**
@@ -21,7 +21,8 @@ export const DEMO_PEOPLE: { email: string; displayName: string; role: Role; pass
   { email: 'theo.brannick@pellworthmech.test', displayName: 'Theo Brannick', role: 'contractor', password: 'closeout-demo-2026' },
 ]
 
-function chiller(tag: string, location: string, serialNumber: string) {
+/** One of the demo's 500-ton chillers (also the sample report's machine). */
+export function demoChiller(tag: string, location: string, serialNumber: string) {
   // 500 tons at the AHRI 550/590 rating conditions: 54 → 44 °F at 2.4 gpm/ton, 85 → 94.3 °F at 3.0 gpm/ton;
   // 0.576 kW/ton × 500 tons = 288 kW input.
   return {
@@ -90,8 +91,8 @@ const DEMO_PROJECTS = [
     distributionList: ['facilities.records@vexleyhealth.test', 'closeout@pellworthmech.test'],
     members: ['rafe.okafor@tallowmere.test', 'ines.marlow@tallowmere.test', 'maren.solvik@vexleyhealth.test', 'theo.brannick@pellworthmech.test'],
     equipment: [
-      chiller('CH-1', 'Central utility plant, chiller bay east', 'HX-24-0311'),
-      chiller('CH-2', 'Central utility plant, chiller bay west', 'HX-24-0312'),
+      demoChiller('CH-1', 'Central utility plant, chiller bay east', 'HX-24-0311'),
+      demoChiller('CH-2', 'Central utility plant, chiller bay west', 'HX-24-0312'),
       pump('CHWP-1', 'chilled_water', 'Primary chilled-water pump 1', 'QP-25-7781', 1200, 85, 40, 48),
       pump('CWP-1', 'condenser_water', 'Condenser-water pump 1', 'QP-25-7790', 1500, 70, 40, 47),
     ],

@@ -1,49 +1,17 @@
 import { createHash } from 'node:crypto'
 import { chillerStartupDefinition } from '@shared/library'
 import { evaluateChecklist } from '@shared/rules'
-import { DESIGN_POINT_QUANTITIES, isDesignPointKey, type AnyDesignPoint } from '@shared/schemas/design-point'
+import type { AnyDesignPoint } from '@shared/schemas/design-point'
+import { canonicalDesignPoint } from '@shared/format/design-point'
+import { demoChiller } from '../db/demo-data'
 import type { FieldEntry } from '@shared/schemas/reading'
 import type { EquipmentDetail, ProjectSummary } from '@shared/types/api'
 import type { ReportInput, SignatureRecord } from '@shared/types/report'
 import type { FindingSummary, RunAttachment, RunDetail, RunProgress, RunReading, RunStepState } from '@shared/types/run'
-import { canonicalUnit, toCanonical } from '@shared/units'
 import { pngDataUrl } from './png'
 
 // A filled chiller start-up with invented people, site and machine: the benchmark renders it, the tests start from
 // it, and an admin can preview the report layout with it. The design point is the demo data's 500-ton chiller.
-
-const ENTERED_DESIGN_POINT: Record<string, unknown> = {
-  refrigerant: 'R-134a',
-  capacity: { value: 500, unit: 'TR' },
-  evaporatorEnteringWaterTemp: { value: 54, unit: 'degF' },
-  evaporatorLeavingWaterTemp: { value: 44, unit: 'degF' },
-  evaporatorWaterFlow: { value: 1200, unit: 'gpm' },
-  evaporatorPressureDrop: { value: 18.5, unit: 'ftH2O' },
-  condenserEnteringWaterTemp: { value: 85, unit: 'degF' },
-  condenserLeavingWaterTemp: { value: 94.3, unit: 'degF' },
-  condenserWaterFlow: { value: 1500, unit: 'gpm' },
-  condenserPressureDrop: { value: 16.2, unit: 'ftH2O' },
-  designKwPerTon: { value: 0.576, unit: 'kWPerTon' },
-  inputPower: { value: 288, unit: 'kW' },
-  voltage: { value: 460, unit: 'V' },
-  frequency: { value: 60, unit: 'Hz' },
-  fullLoadAmps: { value: 420, unit: 'A' },
-  oilPressureSetpoint: { value: 35, unit: 'psid' },
-  chilledWaterSetpointMin: { value: 40, unit: 'degF' },
-  chilledWaterSetpointMax: { value: 55, unit: 'degF' },
-}
-
-function canonical(entered: Record<string, unknown>): Record<string, unknown> {
-  const out: Record<string, unknown> = {}
-  for (const [key, value] of Object.entries(entered)) {
-    if (isDesignPointKey(key) && value && typeof value === 'object') {
-      const q = value as { value: number; unit: string }
-      const kind = DESIGN_POINT_QUANTITIES[key]
-      out[key] = { value: toCanonical(q.value, q.unit, kind), unit: canonicalUnit(kind) }
-    } else out[key] = value
-  }
-  return out
-}
 
 const yes = { value: true }
 const num = (value: number, unit: string) => ({ value, unit })
@@ -210,7 +178,7 @@ function progressOf(run: Pick<RunDetail, 'definition' | 'readings' | 'steps'>): 
 /** A complete, accepted chiller start-up report input with invented data (I-P project, A4 unless told). */
 export function sampleReportInput(options: { paper?: 'A4' | 'Letter' } = {}): ReportInput {
   const definition = chillerStartupDefinition
-  const designPoint = canonical(ENTERED_DESIGN_POINT)
+  const designPoint = canonicalDesignPoint(demoChiller('CH-2', 'Central utility plant, chiller bay west', 'HX-24-0312').designPoint)
   const evaluations = evaluateChecklist(definition, { readings: ENTRIES, designPoint: designPoint as unknown as AnyDesignPoint, unitSystem: 'IP' })
 
   const startedAt = '2026-11-30T14:05:00.000Z'

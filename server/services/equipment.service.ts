@@ -2,8 +2,7 @@ import { DataSource } from 'typeorm'
 import { fileTypeFromBuffer } from 'file-type'
 import type { AttachmentSummary, EquipmentDetail, EquipmentSummary, SessionUser } from '@shared/types/api'
 import type { EquipmentCreateInput, EquipmentUpdateInput } from '@shared/schemas/equipment'
-import { DESIGN_POINT_QUANTITIES, isDesignPointKey } from '@shared/schemas/design-point'
-import { canonicalUnit, toCanonical } from '@shared/units'
+import { canonicalDesignPoint } from '@shared/format/design-point'
 import { AppError } from '../errors/app-error'
 import { Attachment, Equipment, Project } from '../entities'
 import type { StorageService } from '../storage/storage'
@@ -12,22 +11,6 @@ import type { ProjectService } from './project.service'
 import type { Actor } from './user.service'
 
 export const NAMEPLATE_IMAGE_TYPES: Record<string, string> = { 'image/jpeg': 'jpg', 'image/png': 'png', 'image/webp': 'webp' }
-
-/** The design point as stored: every numeric value converted to its canonical SI unit, other entries as given. */
-export function canonicalDesignPoint(entered: Record<string, unknown>): Record<string, unknown> {
-  const out: Record<string, unknown> = {}
-  for (const [key, value] of Object.entries(entered)) {
-    if (value === undefined) continue
-    if (isDesignPointKey(key) && value && typeof value === 'object' && 'value' in value && 'unit' in value) {
-      const kind = DESIGN_POINT_QUANTITIES[key]
-      const q = value as { value: number; unit: string }
-      out[key] = { value: toCanonical(q.value, q.unit, kind), unit: canonicalUnit(kind) }
-    } else {
-      out[key] = value
-    }
-  }
-  return out
-}
 
 function attachmentSummary(a: Attachment): AttachmentSummary {
   return { id: a.id, sha256: a.sha256, mimeType: a.mimeType, sizeBytes: a.sizeBytes, originalName: a.originalName, createdAt: a.createdAt.toISOString() }

@@ -1,5 +1,5 @@
 import { DESIGN_POINT_LABELS, DESIGN_POINT_QUANTITIES, designPointKeysFor, isDesignPointKey, type DesignPointKey, type EquipmentKind } from '../schemas/design-point'
-import { displayUnit, formatQuantity, fromCanonical, unitLabel, type UnitSystem } from '../units'
+import { canonicalUnit, displayUnit, formatQuantity, fromCanonical, toCanonical, unitLabel, type UnitSystem } from '../units'
 
 export interface DesignPointRow {
   key: DesignPointKey
@@ -50,3 +50,18 @@ export function roundForInput(value: number | null): number | null {
   return value === null ? null : Number(value.toPrecision(6))
 }
 
+/** The design point as stored: every numeric value converted to its canonical SI unit, other entries as given. */
+export function canonicalDesignPoint(entered: Record<string, unknown>): Record<string, unknown> {
+  const out: Record<string, unknown> = {}
+  for (const [key, value] of Object.entries(entered)) {
+    if (value === undefined) continue
+    if (isDesignPointKey(key) && value && typeof value === 'object' && 'value' in value && 'unit' in value) {
+      const kind = DESIGN_POINT_QUANTITIES[key]
+      const q = value as { value: number; unit: string }
+      out[key] = { value: toCanonical(q.value, q.unit, kind), unit: canonicalUnit(kind) }
+    } else {
+      out[key] = value
+    }
+  }
+  return out
+}
