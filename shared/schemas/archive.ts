@@ -1,4 +1,5 @@
 import * as yup from 'yup'
+import { CLOSEOUT_CATEGORIES, type CloseoutCategory } from '../types/archive'
 
 const uuid = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i
 const id = (name: string) => yup.string().matches(uuid, `${name} must be a UUID`).optional()
@@ -31,3 +32,36 @@ export const archiveQuerySchema = yup
     return this.createError({ path: 'from', message: 'from must not be after to' })
   })
 export type ArchiveQuery = yup.InferType<typeof archiveQuerySchema>
+
+/** `POST /api/projects/:projectId/closeout-documents` (multipart: these fields and `file`). */
+export const closeoutDocumentSchema = yup
+  .object({
+    title: yup.string().trim().required('title is required').max(200, 'title must be at most 200 characters'),
+    category: yup
+      .mixed<CloseoutCategory>()
+      .required('category is required')
+      .oneOf([...CLOSEOUT_CATEGORIES], `category must be one of ${CLOSEOUT_CATEGORIES.join(', ')}`),
+    documentDate: day('documentDate')
+      .required('documentDate is required')
+      .test('not-future', 'documentDate must not be in the future', (v) => !v || v <= new Date(Date.now() + 14 * 3600_000).toISOString().slice(0, 10)),
+  })
+  .noUnknown()
+export type CloseoutDocumentInput = yup.InferType<typeof closeoutDocumentSchema>
+
+/** `POST /api/archive/export`: a handover package of a whole project, or of chosen reports. */
+export const archiveExportSchema = yup
+  .object({
+    projectId: yup.string().matches(uuid, 'projectId must be a UUID').optional(),
+    reportNumbers: yup
+      .array(yup.string().trim().required().max(40, 'each report number must be at most 40 characters'))
+      .min(1, 'reportNumbers must name at least one report')
+      .max(500, 'reportNumbers may name at most 500 reports')
+      .optional(),
+  })
+  .noUnknown()
+  .test('one-of', 'Give projectId or reportNumbers, not both', function (v) {
+    if (!v) return true
+    if (!v.projectId === !v.reportNumbers) return this.createError({ path: 'projectId', message: 'Give either projectId or reportNumbers' })
+    return true
+  })
+export type ArchiveExportInput = yup.InferType<typeof archiveExportSchema>
