@@ -15,7 +15,10 @@ import { equipmentRoutes } from './routes/equipment.routes'
 import { projectRoutes } from './routes/project.routes'
 import { outboxRoutes } from './routes/outbox.routes'
 import { verifyRoutes } from './routes/verify.routes'
-import { archiveRoutes } from './routes/archive.routes'
+import { archiveRoutes, projectPackageRoutes } from './routes/archive.routes'
+import { closeoutRoutes } from './routes/closeout.routes'
+import { CloseoutService } from './services/closeout.service'
+import { HandoverPackageService } from './services/handover-package.service'
 import { ArchiveService } from './services/archive.service'
 import { VerifyService } from './services/verify.service'
 import { runRoutes } from './routes/run.routes'
@@ -65,7 +68,11 @@ export function createApp({ config, db }: AppDeps): Express {
     await reports.requestFor(runId)
   }
   const runRouters = runRoutes(config, runs, findings, signing, reports)
-  app.locals.services = { mail, signing, runs, findings, storage, reports, renderer }
+  const archive = new ArchiveService(db)
+  const closeout = new CloseoutService(db, projects, storage)
+  const closeoutRouters = closeoutRoutes(config, closeout, projects)
+  const packages = new HandoverPackageService(db, { archive, closeout, runs, storage, publicUrl: config.PUBLIC_URL })
+  app.locals.services = { mail, signing, runs, findings, storage, reports, renderer, archive, closeout, packages }
   const passport = createPassport(users)
   const PgStore = connectPgSimple(session)
   // The sessions share TypeORM's pg pool: one pool per process, and it reconnects by itself after an outage.
@@ -113,12 +120,15 @@ export function createApp({ config, db }: AppDeps): Express {
   api.use('/verify', verifyRoutes(new VerifyService(db), new PostgresRateLimitStore(db, 'verify:')))
   api.use('/users', requireAuth, userRoutes(users))
   api.use('/projects/:projectId/equipment', requireAuth, equipmentRouters.byProject)
+  api.use('/projects/:projectId/closeout-documents', requireAuth, closeoutRouters.byProject)
+  api.use('/projects/:projectId/handover.zip', requireAuth, projectPackageRoutes(packages, projects))
   api.use('/projects', requireAuth, projectRoutes(projects))
+  api.use('/closeout-documents', requireAuth, closeoutRouters.byId)
   api.use('/equipment/:equipmentId/runs', requireAuth, runRouters.byEquipment)
   api.use('/equipment', requireAuth, equipmentRouters.byId)
   api.use('/runs', requireAuth, runRouters.byId)
   api.use('/outbox', requireAuth, outboxRoutes(db))
-  api.use('/archive', requireAuth, archiveRoutes(new ArchiveService(db)))
+  api.use('/archive', requireAuth, archiveRoutes(archive, packages))
   api.use('/templates', requireAuth, templateRoutes(templates))
   api.use(notFoundHandler)
   api.use(errorHandler)

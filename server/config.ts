@@ -55,6 +55,7 @@ const configSchema = yup.object({
   CLIENT_DIST: yup.string().default('dist/client'),
   STORAGE_DIR: yup.string().default('data/files'),
   UPLOAD_MAX_MB: yup.number().typeError('UPLOAD_MAX_MB must be a number').positive().max(100).default(15),
+  CLOSEOUT_MAX_MB: yup.number().typeError('CLOSEOUT_MAX_MB must be a number').positive().max(200).default(60),
   LOG_REQUESTS: yup.boolean().default(false),
   SMTP_URL: yup
     .string()

@@ -1,5 +1,6 @@
 import { Attachment } from './attachment.entity'
 import { AuditEvent } from './audit-event.entity'
+import { CloseoutDocument } from './closeout-document.entity'
 import { ChecklistTemplate } from './checklist-template.entity'
 import { Equipment } from './equipment.entity'
 import { Finding } from './finding.entity'
@@ -17,8 +18,8 @@ import { Signature } from './signature.entity'
 import { TemplateVersion } from './template-version.entity'
 import { User } from './user.entity'
 
-export { Attachment, AuditEvent, ChecklistTemplate, Equipment, Finding, Organization, OutboundMail, Project, ProjectMember, Reading, Report, Run, RunAttachment, RunChange, RunStep, Signature, TemplateVersion, User }
+export { Attachment, AuditEvent, ChecklistTemplate, CloseoutDocument, Equipment, Finding, Organization, OutboundMail, Project, ProjectMember, Reading, Report, Run, RunAttachment, RunChange, RunStep, Signature, TemplateVersion, User }
 export const entities = [
   Organization, User, Project, ProjectMember, AuditEvent, Attachment, Equipment, ChecklistTemplate, TemplateVersion,
-  Run, Reading, RunStep, RunChange, Finding, RunAttachment, Signature, OutboundMail, Report,
+  Run, Reading, RunStep, RunChange, Finding, RunAttachment, Signature, OutboundMail, Report, CloseoutDocument,
 ]

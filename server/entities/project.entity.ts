@@ -42,6 +42,13 @@ export class Project {
   @Column({ type: 'text', name: 'report_paper', default: 'Letter' })
   reportPaper: 'A4' | 'Letter'
 
+  /** When the project was closed: no new runs start; every report stays readable (retention). */
+  @Column({ type: 'timestamptz', name: 'closed_at', nullable: true })
+  closedAt: Date | null
+
+  @Column({ type: 'uuid', name: 'closed_by', nullable: true })
+  closedById: string | null
+
   @OneToMany(() => ProjectMember, (m) => m.project)
   members: Relation<ProjectMember[]>
 

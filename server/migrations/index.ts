@@ -5,6 +5,10 @@ import { Runs1764648000000 } from './1764648000000-Runs'
 import { SignaturesAndMail1764655200000 } from './1764655200000-SignaturesAndMail'
 import { Reports1764658800000 } from './1764658800000-Reports'
 import { ArchiveIndex1764662400000 } from './1764662400000-ArchiveIndex'
+import { CloseoutAndRetention1764669600000 } from './1764669600000-CloseoutAndRetention'
 
 /** Every migration in order. Listed by hand so tsx, Vitest and the CLI all load the same classes without a glob. */
-export const migrations = [Foundation1764633600000, RateLimit1764633700000, EquipmentAndTemplates1764640800000, Runs1764648000000, SignaturesAndMail1764655200000, Reports1764658800000, ArchiveIndex1764662400000]
+export const migrations = [
+  Foundation1764633600000, RateLimit1764633700000, EquipmentAndTemplates1764640800000, Runs1764648000000, SignaturesAndMail1764655200000, Reports1764658800000, ArchiveIndex1764662400000,
+  CloseoutAndRetention1764669600000,
+]

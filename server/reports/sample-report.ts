@@ -284,6 +284,7 @@ export function sampleReportInput(options: { paper?: 'A4' | 'Letter' } = {}): Re
     unitSystem: 'IP',
     reportPaper: options.paper ?? 'A4',
     distributionList: ['facilities.records@vexleyhealth.test', 'closeout@pellworthmech.test'],
+    closedAt: null,
     memberCount: 4,
     equipmentCount: 4,
   }

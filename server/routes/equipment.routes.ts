@@ -1,5 +1,4 @@
-import { Router, type NextFunction, type Request, type RequestHandler, type Response } from 'express'
-import multer from 'multer'
+import { Router, type NextFunction, type Request, type Response } from 'express'
 import * as yup from 'yup'
 import { equipmentCreateSchema, equipmentUpdateSchema } from '@shared/schemas/equipment'
 import type { EquipmentKind } from '@shared/schemas/design-point'
@@ -8,6 +7,7 @@ import type { Config } from '../config'
 import { AppError } from '../errors/app-error'
 import type { Equipment } from '../entities'
 import { currentUser, requireProjectAccess, requireRole } from '../middleware/auth'
+import { singleFileUpload } from '../middleware/upload'
 import { validate } from '../middleware/validate'
 import { NAMEPLATE_IMAGE_TYPES, type EquipmentService } from '../services/equipment.service'
 import type { ProjectService } from '../services/project.service'
@@ -16,27 +16,6 @@ const projectParams = yup.object({ projectId: uuidSchema.label('projectId') })
 const equipmentParams = yup.object({ equipmentId: uuidSchema.label('equipmentId') })
 
 type WithEquipment = Request & { equipment?: Equipment }
-
-/** Multer in memory with a size limit; its errors become 4xx answers naming the `photo` field. */
-function photoUpload(maxMb: number): RequestHandler {
-  const upload = multer({
-    storage: multer.memoryStorage(),
-    limits: { fileSize: maxMb * 1024 * 1024, files: 1, fields: 5 },
-    fileFilter: (_req, file, cb) => {
-      if (NAMEPLATE_IMAGE_TYPES[file.mimetype]) return cb(null, true)
-      cb(new AppError('unsupported_file', 'The nameplate photo must be a JPEG, PNG or WebP image', 415, { photo: `${file.mimetype} is not an accepted image type` }))
-    },
-  }).single('photo')
-  return (req, res, next) =>
-    upload(req, res, (err: unknown) => {
-      if (!err) return next()
-      if (err instanceof multer.MulterError) {
-        const message = err.code === 'LIMIT_FILE_SIZE' ? `The photo is larger than ${maxMb} MB` : `Upload refused: ${err.message}`
-        return next(new AppError(err.code === 'LIMIT_FILE_SIZE' ? 'too_large' : 'bad_upload', message, err.code === 'LIMIT_FILE_SIZE' ? 413 : 400, { photo: message }))
-      }
-      next(err)
-    })
-}
 
 /** Equipment under `/api/projects/:projectId/equipment` (list, create) and `/api/equipment/:equipmentId` (the rest). */
 export function equipmentRoutes(config: Config, equipment: EquipmentService, projects: ProjectService): { byProject: Router; byId: Router } {
@@ -72,7 +51,7 @@ export function equipmentRoutes(config: Config, equipment: EquipmentService, pro
     res.status(204).end()
   })
 
-  byId.put('/:equipmentId/nameplate-photo', admin, validate({ params: equipmentParams }), load, photoUpload(config.UPLOAD_MAX_MB), async (req, res) => {
+  byId.put('/:equipmentId/nameplate-photo', admin, validate({ params: equipmentParams }), load, singleFileUpload({ field: 'photo', maxMb: config.UPLOAD_MAX_MB, fields: 5, accept: NAMEPLATE_IMAGE_TYPES, acceptMessage: 'The nameplate photo must be a JPEG, PNG or WebP image', tooLargeMessage: `The photo is larger than ${config.UPLOAD_MAX_MB} MB` }), async (req, res) => {
     if (!req.file || req.file.size === 0) throw new AppError('missing_file', 'Attach the photo as the "photo" field of a multipart form', 400, { photo: 'No photo was sent' })
     res.json({ equipment: await equipment.setNameplatePhoto(item(req), req.file, actor(req)) })
   })

@@ -32,6 +32,14 @@ export function projectRoutes(projects: ProjectService): Router {
     res.json({ project: await projects.update(String(req.params.projectId), req.body, actor(req)) })
   })
 
+  router.post('/:projectId/close', admin, validate({ params: projectParams }), access, async (req, res) => {
+    res.json({ project: await projects.close(String(req.params.projectId), actor(req)) })
+  })
+
+  router.post('/:projectId/reopen', admin, validate({ params: projectParams }), access, async (req, res) => {
+    res.json({ project: await projects.reopen(String(req.params.projectId), actor(req)) })
+  })
+
   router.delete('/:projectId', admin, validate({ params: projectParams }), access, async (req, res) => {
     await projects.remove(String(req.params.projectId), actor(req))
     res.status(204).end()

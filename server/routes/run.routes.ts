@@ -1,5 +1,4 @@
-import { Router, type RequestHandler } from 'express'
-import multer from 'multer'
+import { Router } from 'express'
 import * as yup from 'yup'
 import {
   attachmentFieldsSchema,
@@ -27,29 +26,9 @@ import type { RunService } from '../services/run.service'
 import type { SigningService } from '../services/signing.service'
 import { reportView, type ReportService } from '../services/report.service'
 import { requireRole } from '../middleware/auth'
+import { singleFileUpload } from '../middleware/upload'
 
 const equipmentParams = yup.object({ equipmentId: uuidSchema.label('equipmentId') })
-
-function fileUpload(maxMb: number): RequestHandler {
-  const upload = multer({
-    storage: multer.memoryStorage(),
-    limits: { fileSize: maxMb * 1024 * 1024, files: 1, fields: 10 },
-    fileFilter: (_req, file, cb) => {
-      if (RUN_FILE_TYPES[file.mimetype]) return cb(null, true)
-      cb(new AppError('unsupported_file', 'Attach a photo (JPEG, PNG, WebP) or a PDF', 415, { file: `${file.mimetype} is not accepted` }))
-    },
-  }).single('file')
-  return (req, res, next) =>
-    upload(req, res, (err: unknown) => {
-      if (!err) return next()
-      if (err instanceof multer.MulterError) {
-        const tooLarge = err.code === 'LIMIT_FILE_SIZE'
-        const message = tooLarge ? `The file is larger than ${maxMb} MB` : `Upload refused: ${err.message}`
-        return next(new AppError(tooLarge ? 'too_large' : 'bad_upload', message, tooLarge ? 413 : 400, { file: message }))
-      }
-      next(err)
-    })
-}
 
 /** `/api/equipment/:equipmentId/runs` (start, list) and `/api/runs/…` (the run, its readings, steps, findings, files, review). */
 export function runRoutes(
@@ -94,7 +73,7 @@ export function runRoutes(
     res.json({ finding: await findings.update(currentUser(req), runId(req), String(req.params.findingId), req.body) })
   })
 
-  byId.post('/:runId/attachments', validate({ params: runParamsSchema }), fileUpload(config.UPLOAD_MAX_MB), validate({ body: attachmentFieldsSchema }), async (req, res) => {
+  byId.post('/:runId/attachments', validate({ params: runParamsSchema }), singleFileUpload({ field: 'file', maxMb: config.UPLOAD_MAX_MB, fields: 10, accept: RUN_FILE_TYPES, acceptMessage: 'Attach a photo (JPEG, PNG, WebP) or a PDF' }), validate({ body: attachmentFieldsSchema }), async (req, res) => {
     if (!req.file || req.file.size === 0) throw new AppError('missing_file', 'Attach the file as the "file" field of a multipart form', 400, { file: 'No file was sent' })
     res.status(201).json({ attachment: await findings.attach(currentUser(req), runId(req), req.file, req.body) })
   })

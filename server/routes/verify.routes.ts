@@ -1,9 +1,9 @@
 import { Router } from 'express'
-import multer from 'multer'
 import { rateLimit } from 'express-rate-limit'
 import * as yup from 'yup'
 import { AppError } from '../errors/app-error'
 import type { PostgresRateLimitStore } from '../middleware/pg-rate-limit-store'
+import { singleFileUpload } from '../middleware/upload'
 import { validate } from '../middleware/validate'
 import type { VerifyService } from '../services/verify.service'
 
@@ -16,17 +16,9 @@ export function verifyRoutes(verify: VerifyService, store: PostgresRateLimitStor
   router.use(rateLimit({ windowMs: 60_000, limit: 30, standardHeaders: 'draft-7', legacyHeaders: false, store, handler: (_req, res) => {
     res.status(429).json({ error: { code: 'too_many_checks', message: 'Too many checks from this address; try again in a minute.' } })
   } }))
-  const upload = multer({ storage: multer.memoryStorage(), limits: { fileSize: MAX_MB * 1024 * 1024, files: 1, fields: 0 } }).single('file')
+  const upload = singleFileUpload({ field: 'file', maxMb: MAX_MB, tooLargeMessage: `The file is larger than ${MAX_MB} MB; a start-up report is far smaller` })
 
-  router.post('/', (req, res, next) =>
-    upload(req, res, (err: unknown) => {
-      if (!err) return next()
-      if (err instanceof multer.MulterError && err.code === 'LIMIT_FILE_SIZE') {
-        return next(new AppError('too_large', `The file is larger than ${MAX_MB} MB; a start-up report is far smaller`, 413, { file: `Larger than ${MAX_MB} MB` }))
-      }
-      next(new AppError('bad_upload', 'Send the PDF as the "file" field of a multipart form', 400, { file: 'No file was sent' }))
-    }),
-  async (req, res) => {
+  router.post('/', upload, async (req, res) => {
     if (!req.file) throw new AppError('missing_file', 'Send the PDF as the "file" field of a multipart form', 400, { file: 'No file was sent' })
     res.json({ answer: await verify.check(req.file.buffer) })
   })

@@ -1,36 +1,10 @@
 import type { DataSource } from 'typeorm'
 import type { ArchiveQuery } from '@shared/schemas/archive'
 import type { SessionUser } from '@shared/types/api'
+import type { ArchiveFacets, ArchiveItem, ArchivePage } from '@shared/types/archive'
 import { AppError } from '../errors/app-error'
 
-export interface ArchiveItem {
-  reportNumber: string
-  runId: string
-  projectId: string
-  projectCode: string
-  projectName: string
-  equipmentId: string
-  equipmentTag: string
-  equipmentKind: string
-  serialNumber: string
-  templateName: string
-  templateVersion: number
-  technicianName: string | null
-  acceptedAt: string
-  failCount: number
-  marginalCount: number
-  openFindingCount: number
-  sha256: string
-  downloadUrl: string
-  /** The report of a later re-test of the same equipment with the same checklist, when there is one. */
-  supersededBy: string | null
-}
-
-export interface ArchivePage {
-  items: ArchiveItem[]
-  total: number
-  nextCursor: string | null
-}
+export type { ArchiveItem, ArchivePage }
 
 type Cursor = { at: string; id: string }
 const encode = (c: Cursor) => Buffer.from(JSON.stringify(c)).toString('base64url')
@@ -107,10 +81,79 @@ export class ArchiveService {
       pageWhere.push(`(r.accepted_at, r.id) ${newest ? '<' : '>'} ($${pageParams.length - 1}::timestamptz, $${pageParams.length}::uuid)`)
     }
     pageParams.push(q.limit + 1)
-    const rows: Record<string, unknown>[] = await this.db.query(
-      `SELECT r.report_number, r.run_id, r.project_id, p.code AS project_code, p.name AS project_name, r.equipment_id, e.tag, e.kind,
-              e.serial_number, t.name AS template_name, v.number AS template_version, u.display_name AS technician_name, r.accepted_at,
-              r.fail_count, r.marginal_count, r.open_finding_count, r.sha256, r.id,
+    const rows = await this.select(pageWhere.join(' AND '), pageParams, `r.accepted_at ${newest ? 'DESC' : 'ASC'}, r.id ${newest ? 'DESC' : 'ASC'}`, `LIMIT $${pageParams.length}`)
+    const more = rows.length > q.limit
+    const page = rows.slice(0, q.limit)
+    const last = page[page.length - 1]
+    return {
+      total,
+      nextCursor: more && last ? encode({ at: new Date(last.accepted_at as string).toISOString(), id: last.id as string }) : null,
+      items: page.map(toItem),
+    }
+  }
+
+  /** The visible issued reports of one project, or the named ones, for a handover package; a name one may not see is a 400 naming it. */
+  async itemsFor(user: SessionUser, scope: { projectId?: string; reportNumbers?: string[] }): Promise<(ArchiveItem & { storageKey: string })[]> {
+    const visible = await this.visibleProjects(user)
+    if (scope.projectId) {
+      if (!visible.includes(scope.projectId)) throw new AppError('invalid_input', 'projectId names no project you can see', 400, { projectId: 'No such project' })
+      const rows = await this.select(`r.status = 'ready' AND r.project_id = $1`, [scope.projectId], 'e.tag, r.accepted_at, r.id')
+      return rows.map((r) => ({ ...toItem(r), storageKey: r.storage_key as string }))
+    }
+    const numbers = [...new Set(scope.reportNumbers ?? [])]
+    const rows = await this.select(`r.status = 'ready' AND r.project_id = ANY($1::uuid[]) AND r.report_number = ANY($2::text[])`, [visible, numbers], 'p.code, e.tag, r.accepted_at, r.id')
+    const found = new Set(rows.map((r) => r.report_number as string))
+    const missing: Record<string, string> = {}
+    ;(scope.reportNumbers ?? []).forEach((n, i) => {
+      if (!found.has(n)) missing[`reportNumbers[${i}]`] = `${n} names no issued report you can see`
+    })
+    if (Object.keys(missing).length) throw new AppError('invalid_input', Object.values(missing).join('; '), 400, missing)
+    return rows.map((r) => ({ ...toItem(r), storageKey: r.storage_key as string }))
+  }
+
+  /** What the filter menus offer: the projects, equipment, checklists and technicians that have visible issued reports. */
+  async facets(user: SessionUser): Promise<ArchiveFacets> {
+    const visible = await this.visibleProjects(user)
+    const [projects, equipment, templates, technicians] = await Promise.all([
+      this.db.query(
+        `SELECT p.id, p.code, p.name, p.closed_at IS NOT NULL AS closed, count(r.id)::int AS report_count
+           FROM project p LEFT JOIN report r ON r.project_id = p.id AND r.status = 'ready'
+          WHERE p.id = ANY($1::uuid[]) GROUP BY p.id ORDER BY p.code`,
+        [visible],
+      ),
+      this.db.query(
+        `SELECT e.id, e.project_id, e.tag, e.kind, count(*)::int AS report_count
+           FROM report r JOIN equipment e ON e.id = r.equipment_id
+          WHERE r.status = 'ready' AND r.project_id = ANY($1::uuid[]) GROUP BY e.id ORDER BY e.tag`,
+        [visible],
+      ),
+      this.db.query(
+        `SELECT t.id, t.name, count(*)::int AS report_count
+           FROM report r JOIN checklist_template t ON t.id = r.template_id
+          WHERE r.status = 'ready' AND r.project_id = ANY($1::uuid[]) GROUP BY t.id ORDER BY t.name`,
+        [visible],
+      ),
+      this.db.query(
+        `SELECT u.id, u.display_name AS name, u.active, count(*)::int AS report_count
+           FROM report r JOIN app_user u ON u.id = r.technician_id
+          WHERE r.status = 'ready' AND r.project_id = ANY($1::uuid[]) GROUP BY u.id ORDER BY u.display_name`,
+        [visible],
+      ),
+    ])
+    return {
+      projects: projects.map((p: Record<string, unknown>) => ({ id: p.id, code: p.code, name: p.name, closed: p.closed, reportCount: p.report_count })),
+      equipment: equipment.map((e: Record<string, unknown>) => ({ id: e.id, projectId: e.project_id, tag: e.tag, kind: e.kind, reportCount: e.report_count })),
+      templates: templates.map((t: Record<string, unknown>) => ({ id: t.id, name: t.name, reportCount: t.report_count })),
+      technicians: technicians.map((t: Record<string, unknown>) => ({ id: t.id, name: t.name, active: t.active, reportCount: t.report_count })),
+    }
+  }
+
+  private select(where: string, params: unknown[], orderBy: string, limit = ''): Promise<Record<string, unknown>[]> {
+    return this.db.query(
+      `SELECT r.report_number, r.run_id, r.project_id, p.code AS project_code, p.name AS project_name, p.closed_at IS NOT NULL AS project_closed,
+              r.equipment_id, e.tag, e.kind, e.serial_number, r.template_id, t.name AS template_name, v.number AS template_version,
+              r.technician_id, u.display_name AS technician_name, r.accepted_at, r.fail_count, r.marginal_count, r.open_finding_count,
+              r.sha256, r.size_bytes, r.storage_key, r.id,
               (SELECT n.report_number FROM report n WHERE n.status = 'ready' AND n.equipment_id = r.equipment_id AND n.template_id = r.template_id
                   AND n.accepted_at > r.accepted_at ORDER BY n.accepted_at DESC LIMIT 1) AS superseded_by
          FROM report r
@@ -120,38 +163,38 @@ export class ArchiveService {
          JOIN run ON run.id = r.run_id
          JOIN template_version v ON v.id = run.template_version_id
          LEFT JOIN app_user u ON u.id = r.technician_id
-        WHERE ${pageWhere.join(' AND ')}
-        ORDER BY r.accepted_at ${newest ? 'DESC' : 'ASC'}, r.id ${newest ? 'DESC' : 'ASC'}
-        LIMIT $${pageParams.length}`,
-      pageParams,
+        WHERE ${where}
+        ORDER BY ${orderBy}
+        ${limit}`,
+      params,
     )
-    const more = rows.length > q.limit
-    const page = rows.slice(0, q.limit)
-    const last = page[page.length - 1]
-    return {
-      total,
-      nextCursor: more && last ? encode({ at: new Date(last.accepted_at as string).toISOString(), id: last.id as string }) : null,
-      items: page.map((r) => ({
-        reportNumber: r.report_number as string,
-        runId: r.run_id as string,
-        projectId: r.project_id as string,
-        projectCode: r.project_code as string,
-        projectName: r.project_name as string,
-        equipmentId: r.equipment_id as string,
-        equipmentTag: r.tag as string,
-        equipmentKind: r.kind as string,
-        serialNumber: r.serial_number as string,
-        templateName: r.template_name as string,
-        templateVersion: r.template_version as number,
-        technicianName: (r.technician_name as string | null) ?? null,
-        acceptedAt: new Date(r.accepted_at as string).toISOString(),
-        failCount: r.fail_count as number,
-        marginalCount: r.marginal_count as number,
-        openFindingCount: r.open_finding_count as number,
-        sha256: r.sha256 as string,
-        downloadUrl: `/api/runs/${r.run_id}/report.pdf`,
-        supersededBy: (r.superseded_by as string | null) ?? null,
-      })),
-    }
+  }
+}
+
+function toItem(r: Record<string, unknown>): ArchiveItem {
+  return {
+    reportNumber: r.report_number as string,
+    runId: r.run_id as string,
+    projectId: r.project_id as string,
+    projectCode: r.project_code as string,
+    projectName: r.project_name as string,
+    projectClosed: r.project_closed as boolean,
+    equipmentId: r.equipment_id as string,
+    equipmentTag: r.tag as string,
+    equipmentKind: r.kind as string,
+    serialNumber: r.serial_number as string,
+    templateId: r.template_id as string,
+    templateName: r.template_name as string,
+    templateVersion: r.template_version as number,
+    technicianId: (r.technician_id as string | null) ?? null,
+    technicianName: (r.technician_name as string | null) ?? null,
+    acceptedAt: new Date(r.accepted_at as string).toISOString(),
+    failCount: r.fail_count as number,
+    marginalCount: r.marginal_count as number,
+    openFindingCount: r.open_finding_count as number,
+    sha256: r.sha256 as string,
+    sizeBytes: Number(r.size_bytes),
+    downloadUrl: `/api/runs/${r.run_id}/report.pdf`,
+    supersededBy: (r.superseded_by as string | null) ?? null,
   }
 }

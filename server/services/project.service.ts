@@ -22,7 +22,7 @@ function snapshot(p: Project): ProjectFields {
 }
 
 function toSummary(p: Project, memberCount: number, equipmentCount: number): ProjectSummary {
-  return { id: p.id, ...snapshot(p), memberCount, equipmentCount }
+  return { id: p.id, ...snapshot(p), closedAt: p.closedAt ? p.closedAt.toISOString() : null, memberCount, equipmentCount }
 }
 
 /** Projects and who may see them: admins see their firm's projects, everyone else only their memberships. */
@@ -106,6 +106,39 @@ export class ProjectService {
       }
       await tx.getRepository(Project).save(project)
       await recordAudit(tx, { actorId: actor.id, action: 'project.update', entityType: 'project', entityId: projectId, projectId, before, after: snapshot(project), ip: actor.ip })
+    })
+    return this.get(projectId)
+  }
+
+  /** Closes a project at handover: no new runs start on it; its reports, documents and members stay as they are. */
+  async close(projectId: string, actor: Actor): Promise<ProjectSummary> {
+    return this.setClosed(projectId, true, actor)
+  }
+
+  /** Opens a closed project again (e.g. for a warranty re-test). */
+  async reopen(projectId: string, actor: Actor): Promise<ProjectSummary> {
+    return this.setClosed(projectId, false, actor)
+  }
+
+  private async setClosed(projectId: string, closed: boolean, actor: Actor): Promise<ProjectSummary> {
+    await this.db.transaction(async (tx) => {
+      const project = await tx.getRepository(Project).findOne({ where: { id: projectId }, lock: { mode: 'pessimistic_write' } })
+      if (!project) throw AppError.notFound('Project')
+      if (Boolean(project.closedAt) === closed) {
+        throw new AppError(closed ? 'project_closed' : 'project_open', `Project ${project.code} is already ${closed ? 'closed' : 'open'}`, 409)
+      }
+      const before = { closedAt: project.closedAt }
+      await tx.getRepository(Project).update(projectId, { closedAt: closed ? new Date() : null, closedById: closed ? actor.id : null })
+      await recordAudit(tx, {
+        actorId: actor.id,
+        action: closed ? 'project.close' : 'project.reopen',
+        entityType: 'project',
+        entityId: projectId,
+        projectId,
+        before,
+        after: { closed },
+        ip: actor.ip,
+      })
     })
     return this.get(projectId)
   }

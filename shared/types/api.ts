@@ -42,6 +42,8 @@ export interface ProjectSummary {
   distributionList: string[]
   /** Paper size of the handover reports. */
   reportPaper: 'A4' | 'Letter'
+  /** When the project was closed (ISO), or null while open. A closed project starts no new runs; its reports stay readable. */
+  closedAt: string | null
   memberCount: number
   equipmentCount: number
 }
