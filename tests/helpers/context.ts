@@ -45,7 +45,7 @@ export async function createTestContext(env: Record<string, string> = {}): Promi
 /** Empties every table the tests write to; each test file then inserts its own rows. */
 export async function resetDatabase(db: DataSource): Promise<void> {
   await db.query(
-    `TRUNCATE report, outbound_mail, signature, run_attachment, finding, run_change, run_step, reading, run, template_version, checklist_template, equipment, attachment, project_member, project, app_user, organization, session, rate_limit RESTART IDENTITY CASCADE`,
+    `TRUNCATE closeout_document, report, outbound_mail, signature, run_attachment, finding, run_change, run_step, reading, run, template_version, checklist_template, equipment, attachment, project_member, project, app_user, organization, session, rate_limit RESTART IDENTITY CASCADE`,
   )
   // audit_event refuses DELETE and UPDATE by trigger, and TRUNCATE is the administrator's way to clear a test database.
   await db.query(`TRUNCATE audit_event`)
