@@ -136,6 +136,9 @@ export class RunService {
       const equipment = await tx.getRepository(Equipment).findOneBy({ id: equipmentId })
       if (!equipment || !(await this.projects.canAccess(user, equipment.projectId))) throw AppError.notFound('Equipment')
       const project = await tx.getRepository(Project).findOneByOrFail({ id: equipment.projectId })
+      if (project.closedAt) {
+        throw new AppError('project_closed', `Project ${project.code} is closed; an admin reopens it before a new run starts (its reports stay readable)`, 409)
+      }
       const template = await tx.getRepository(ChecklistTemplate).findOneBy({ id: templateId, organizationId: project.organizationId })
       if (!template) throw new AppError('not_found', 'Template was not found', 404, { templateId: 'No such template' })
       if (template.equipmentKind !== equipment.kind) {
