@@ -12,7 +12,11 @@ export {}
 declare module 'vue' {
   export interface GlobalComponents {
     AppShell: typeof import('./components/AppShell.vue')['default']
+    ArchiveFilterBar: typeof import('./components/ArchiveFilterBar.vue')['default']
+    BaseArchiveVerdicts: typeof import('./components/BaseArchiveVerdicts.vue')['default']
     BaseCautionList: typeof import('./components/BaseCautionList.vue')['default']
+    BaseCloseoutDocumentList: typeof import('./components/BaseCloseoutDocumentList.vue')['default']
+    BaseDownloadProgress: typeof import('./components/BaseDownloadProgress.vue')['default']
     BaseLogo: typeof import('./components/BaseLogo.vue')['default']
     BaseProjectCard: typeof import('./components/BaseProjectCard.vue')['default']
     BaseRampChart: typeof import('./components/BaseRampChart.vue')['default']
@@ -25,6 +29,7 @@ declare module 'vue' {
     ElCard: typeof import('element-plus/es')['ElCard']
     ElCheckbox: typeof import('element-plus/es')['ElCheckbox']
     ElConfigProvider: typeof import('element-plus/es')['ElConfigProvider']
+    ElDatePicker: typeof import('element-plus/es')['ElDatePicker']
     ElDescriptions: typeof import('element-plus/es')['ElDescriptions']
     ElDescriptionsItem: typeof import('element-plus/es')['ElDescriptionsItem']
     ElDialog: typeof import('element-plus/es')['ElDialog']
@@ -52,6 +57,7 @@ declare module 'vue' {
     EquipmentFormDialog: typeof import('./components/EquipmentFormDialog.vue')['default']
     OutboxDetailDrawer: typeof import('./components/OutboxDetailDrawer.vue')['default']
     PeopleCreateDialog: typeof import('./components/PeopleCreateDialog.vue')['default']
+    ProjectCloseoutDialog: typeof import('./components/ProjectCloseoutDialog.vue')['default']
     ProjectFormDialog: typeof import('./components/ProjectFormDialog.vue')['default']
     RouterLink: typeof import('vue-router')['RouterLink']
     RouterView: typeof import('vue-router')['RouterView']

@@ -17,6 +17,7 @@ export type RouteName =
   | 'run'
   | 'run-review'
   | 'outbox'
+  | 'archive'
   | 'verify'
   | 'verify-number'
   | 'not-found'
@@ -60,6 +61,7 @@ const routes: NamedRoute[] = [
   { path: '/people', name: 'people', component: () => import('@/views/PeopleView.vue'), meta: { roles: ['admin'], title: 'People' } },
   { path: '/runs/:runId', name: 'run', component: () => import('@/views/RunView.vue'), meta: { title: 'Run', offline: true }, props: true },
   { path: '/runs/:runId/review', name: 'run-review', component: () => import('@/views/RunReviewView.vue'), meta: { title: 'Review' }, props: true },
+  { path: '/archive', name: 'archive', component: () => import('@/views/ArchiveView.vue'), meta: { title: 'Archive' } },
   { path: '/outbox', name: 'outbox', component: () => import('@/views/OutboxView.vue'), meta: { roles: ['admin'], title: 'Outbox' } },
   { path: '/verify', name: 'verify', component: () => import('@/views/VerifyView.vue'), meta: { public: true, title: 'Check a report' } },
   { path: '/verify/:reportNumber', name: 'verify-number', component: () => import('@/views/VerifyView.vue'), meta: { public: true, title: 'Check a report' }, props: true },
