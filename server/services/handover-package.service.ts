@@ -183,6 +183,16 @@ export class HandoverPackageService {
       }),
     )
     await add('README.txt', Buffer.from(readme(plan, generatedAt, this.deps.publicUrl)))
+    // Recorded before the last entry, so the record exists once the client has the whole file.
+    await recordAudit(this.db.manager, {
+      actorId: plan.user.id,
+      action: 'archive.export',
+      entityType: plan.scope.projectId ? 'project' : 'report',
+      entityId: plan.scope.projectId ?? plan.items[0]?.reportNumber ?? 'none',
+      projectId: plan.scope.projectId ?? null,
+      after: { reportNumbers: plan.items.map((i) => i.reportNumber), closeoutDocuments: plan.documents.length, files: files.length + 1 },
+      ip: plan.ip ?? null,
+    })
     // Last, so it lists every other file (manifest and README included): `sha256sum -c SHA256SUMS` checks the lot.
     const sums = files.map((f) => `${f.sha256}  ${f.path}`).join('\n') + '\n'
     const done = once(out, 'finish')
@@ -190,15 +200,6 @@ export class HandoverPackageService {
     await Promise.race([zip.finalize(), failed])
     await Promise.race([done, failed])
 
-    await recordAudit(this.db.manager, {
-      actorId: plan.user.id,
-      action: 'archive.export',
-      entityType: plan.scope.projectId ? 'project' : 'report',
-      entityId: plan.scope.projectId ?? plan.items[0]?.reportNumber ?? 'none',
-      projectId: plan.scope.projectId ?? null,
-      after: { reportNumbers: plan.items.map((i) => i.reportNumber), closeoutDocuments: plan.documents.length, files: files.length + 1, bytes: zip.pointer() },
-      ip: plan.ip ?? null,
-    })
   }
 
   private async addAttachments(run: RunDetail, folder: string, add: (path: string, data: Buffer, date?: Date, compressed?: boolean) => Promise<void>): Promise<Map<string, string>> {

@@ -45,7 +45,7 @@ export const closeoutDocumentSchema = yup
       .required('documentDate is required')
       .test('not-future', 'documentDate must not be in the future', (v) => !v || v <= new Date(Date.now() + 14 * 3600_000).toISOString().slice(0, 10)),
   })
-  .noUnknown()
+  .exact('the form has fields it does not take: ${properties}')
 export type CloseoutDocumentInput = yup.InferType<typeof closeoutDocumentSchema>
 
 /** `POST /api/archive/export`: a handover package of a whole project, or of chosen reports. */
@@ -58,7 +58,7 @@ export const archiveExportSchema = yup
       .max(500, 'reportNumbers may name at most 500 reports')
       .optional(),
   })
-  .noUnknown()
+  .exact('the request has keys it does not take: ${properties}')
   .test('one-of', 'Give projectId or reportNumbers, not both', function (v) {
     if (!v) return true
     if (!v.projectId === !v.reportNumbers) return this.createError({ path: 'projectId', message: 'Give either projectId or reportNumbers' })
