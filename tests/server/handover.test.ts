@@ -1,4 +1,6 @@
 import { createHash, randomUUID } from 'node:crypto'
+import fs from 'node:fs'
+import path from 'node:path'
 import yauzl from 'yauzl'
 import { parse } from 'csv-parse/sync'
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
@@ -10,7 +12,7 @@ let ctx: TestContext
 const services = () => ctx.app.locals.services as { reports: ReportService; renderer: ReportRenderer }
 
 beforeAll(async () => {
-  ctx = await createTestContext({ CERT_DIR: `/tmp/startproof-handover-certs-${process.pid}`, CLOSEOUT_MAX_MB: 1 })
+  ctx = await createTestContext({ CERT_DIR: `/tmp/startproof-handover-certs-${process.pid}`, CLOSEOUT_MAX_MB: '1' })
 })
 afterAll(async () => {
   await services().renderer.close()
@@ -253,6 +255,21 @@ describe('handover package', () => {
     expect(mine.projects).toEqual([expect.objectContaining({ id: s.project.id, reportCount: 2, closed: false })])
     expect(mine.equipment).toEqual([expect.objectContaining({ tag: 'CH-7', reportCount: 2 })])
     expect(mine.technicians).toEqual([expect.objectContaining({ name: 'Ada Tech', active: true, reportCount: 2 })])
+  }, 240_000)
+
+  it('when a stored PDF changed on disk, then the package is cut short instead of handing over a wrong file', async () => {
+    const s = await twoReports()
+    const [{ storage_key: key }] = await ctx.db.query(`SELECT storage_key FROM report WHERE report_number = $1`, [s.first])
+    const file = path.join(ctx.config.STORAGE_DIR, key)
+    const bytes = fs.readFileSync(file)
+    bytes[bytes.length - 10] ^= 0x01
+    fs.writeFileSync(file, bytes)
+    const outcome = await s.contractorAgent
+      .get(`/api/projects/${s.project.id}/handover.zip`)
+      .buffer(true)
+      .parse(binary)
+      .then((res) => unzip(res.body).then(() => 'complete zip', () => 'broken zip'), () => 'aborted')
+    expect(outcome).not.toBe('complete zip')
   }, 240_000)
 })
 
