@@ -85,7 +85,7 @@ async function twoReports() {
 describe('closeout documents', () => {
   it('when a contractor attaches documents, then members list and download them; owners and technicians may not attach; bad input is a 4xx naming the field', async () => {
     const s = await twoReports()
-    const attach = (agent = s.contractorAgent, fields: Record<string, string> = { title: 'Chiller O&M manual', category: 'om_manual', documentDate: '2026-11-20' }, file = PDF, name = 'O&M Handbuch – Kältemaschine.pdf') => {
+    const attach = (agent = s.contractorAgent, fields: Record<string, string> = { title: 'Chiller O&M manual', category: 'om_manual', documentDate: '2026-11-20' }, file: Buffer | null = PDF, name = 'O&M Handbuch – Kältemaschine.pdf') => {
       const req = agent.post(`/api/projects/${s.project.id}/closeout-documents`)
       for (const [k, v] of Object.entries(fields)) req.field(k, v)
       return file ? req.attach('file', file, { filename: name, contentType: 'application/pdf' }) : req
@@ -112,7 +112,7 @@ describe('closeout documents', () => {
     const future = await attach(s.contractorAgent, { title: 'x', category: 'other', documentDate: '2099-01-01' })
     expect(future.status).toBe(400)
     expect(future.body.error.fields.documentDate).toMatch(/future/)
-    const noFile = await attach(s.contractorAgent, undefined, null as unknown as Buffer)
+    const noFile = await attach(s.contractorAgent, undefined, null)
     expect(noFile.status).toBe(400)
     expect(noFile.body.error.fields.file).toBeTruthy()
     const notADoc = await attach(s.contractorAgent, undefined, Buffer.from('MZ\x90\x00 this is a program, not a manual'), 'manual.pdf')
