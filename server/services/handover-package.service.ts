@@ -1,5 +1,6 @@
 import { createHash } from 'node:crypto'
 import { once } from 'node:events'
+import { setTimeout as delay } from 'node:timers/promises'
 import type { Writable } from 'node:stream'
 import { ZipArchive } from 'archiver'
 import { stringify } from 'csv-stringify/sync'
@@ -39,6 +40,9 @@ export const CSV_COLUMNS = {
   signatures: ['meaning', 'printed_name', 'role', 'signed_at_utc', 'signed_at_local', 'time_zone', 'snapshot_sha256', 'voided', 'voided_at_utc', 'void_reason'],
   closeout: ['document_id', 'project_code', 'title', 'category', 'category_label', 'document_date', 'file_name', 'path', 'content_type', 'size_bytes', 'sha256', 'uploaded_by', 'uploaded_at_utc'],
 } as const
+
+/** At most this much of the ZIP waits in memory for a slow client before the next file is read. */
+const QUEUED_BYTES = 4 * 1024 * 1024
 
 type Row = Record<string, string | number | boolean | null | undefined>
 const csv = (columns: readonly string[], rows: Row[]) => Buffer.from(stringify(rows, { header: true, columns: [...columns], bom: true, cast: { boolean: (b) => (b ? 'true' : 'false') } }))
@@ -97,7 +101,10 @@ export class HandoverPackageService {
       const written = once(zip, 'entry')
       zip.append(data, { name: path, date, store: compressed })
       await Promise.race([written, failed])
-      if ((out as Writable & { writableNeedDrain?: boolean }).writableNeedDrain) await Promise.race([once(out, 'drain'), failed, once(out, 'close')])
+      // archiver takes a whole Buffer at once, so hold back here until the client has read what is queued.
+      while (!out.destroyed && (zip.readableLength > QUEUED_BYTES || out.writableNeedDrain)) {
+        await Promise.race([once(out, 'drain'), delay(50), failed])
+      }
       if (out.destroyed) throw new Error('the client went away before the package was complete')
     }
 
