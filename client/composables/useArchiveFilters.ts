@@ -100,11 +100,22 @@ export const FILTER_LABELS: Record<string, string> = {
   cursor: 'Load more',
 }
 
-/** `{ 'query.from': '…' }` → `{ from: '…' }`. */
+/** `{ 'query.from': 'from is not a real date' }` → `{ from: 'Accepted from is not a real date' }`: the filter's own name in words. */
 export function filterErrors(fields: Record<string, string>): Record<string, string> {
   const out: Record<string, string> = {}
-  for (const [key, message] of Object.entries(fields)) out[key.replace(/^query\./, '')] = message
+  for (const [path, message] of Object.entries(fields)) {
+    const key = path.replace(/^query\./, '')
+    const label = FILTER_LABELS[key]
+    out[key] = label && message.startsWith(`${key} `) ? `${label}${message.slice(key.length)}` : message
+  }
   return out
+}
+
+/** A date written YYYY-MM-DD that is a real day of the calendar (2026-02-30 is not). */
+export function isRealDay(value: string): boolean {
+  if (!/^\d{4}-\d{2}-\d{2}$/.test(value)) return false
+  const d = new Date(`${value}T00:00:00Z`)
+  return !Number.isNaN(d.getTime()) && d.toISOString().startsWith(value)
 }
 
 /** Filters bound to the current route's query; `set` changes some and replaces the URL (no history entry per keystroke). */

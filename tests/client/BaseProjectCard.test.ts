@@ -15,6 +15,7 @@ const project: ProjectSummary = {
   reportPaper: 'Letter',
   memberCount: 4,
   equipmentCount: 2,
+  closedAt: null,
 }
 
 const mountCard = (p: ProjectSummary, now: Date) =>
