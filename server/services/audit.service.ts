@@ -10,6 +10,8 @@ export interface AuditEntry {
   before?: Record<string, unknown> | null
   after?: Record<string, unknown> | null
   ip?: string | null
+  /** When it happened; the database's now() unless a service with its own clock says otherwise. */
+  occurredAt?: Date
 }
 
 /** Appends one event to the audit trail inside the caller's transaction (or alone). */
@@ -23,5 +25,6 @@ export async function recordAudit(manager: EntityManager, entry: AuditEntry): Pr
     before: entry.before ?? null,
     after: entry.after ?? null,
     ip: entry.ip ?? null,
+    ...(entry.occurredAt ? { occurredAt: entry.occurredAt } : {}),
   }))
 }

@@ -9,6 +9,7 @@ import { Attachment, Finding, Reading, RunAttachment, RunStep, User } from '../e
 import type { StorageService } from '../storage/storage'
 import { recordAudit } from './audit.service'
 import { runSnapshot } from './signing.service'
+import { systemClock, type Clock } from './clock'
 import { fieldPlaces, progressOf, type RunContext, type RunService } from './run.service'
 
 /** What may be attached to a run: photos and PDFs, recognised by their bytes, not by the name a browser gave them. */
@@ -21,6 +22,7 @@ export class FindingService {
     private readonly db: DataSource,
     private readonly runs: RunService,
     private readonly storage: StorageService,
+    private readonly clock: Clock = systemClock,
   ) {}
 
   private async names(ids: (string | null)[]) {
@@ -87,8 +89,9 @@ export class FindingService {
       const ctx = await this.runs.context(user, runId, tx, true)
       this.assertCanEdit(user, ctx)
       this.assertPlace(ctx, input.stepId, input.fieldId)
-      const finding = await tx.getRepository(Finding).save({ runId, stepId: input.stepId, fieldId: input.fieldId ?? null, severity: input.severity, description: input.description, status: 'open' as const, createdBy: user.id })
-      await recordAudit(tx, { actorId: user.id, action: 'finding.create', entityType: 'finding', entityId: finding.id, projectId: ctx.run.projectId, after: { runId, stepId: finding.stepId, fieldId: finding.fieldId, severity: finding.severity, description: finding.description } })
+      const now = this.clock()
+      const finding = await tx.getRepository(Finding).save({ runId, stepId: input.stepId, fieldId: input.fieldId ?? null, severity: input.severity, description: input.description, status: 'open' as const, createdBy: user.id, createdAt: now, updatedAt: now })
+      await recordAudit(tx, { actorId: user.id, action: 'finding.create', entityType: 'finding', entityId: finding.id, projectId: ctx.run.projectId, after: { runId, stepId: finding.stepId, fieldId: finding.fieldId, severity: finding.severity, description: finding.description }, occurredAt: now })
       return finding.id
     })
     return (await this.listViews(runId)).find((f) => f.id === id)!
@@ -101,13 +104,14 @@ export class FindingService {
       const finding = await tx.getRepository(Finding).findOneBy({ id: findingId, runId })
       if (!finding) throw AppError.notFound('Finding')
       const before = { severity: finding.severity, description: finding.description, status: finding.status, resolution: finding.resolution }
+      const now = this.clock()
       if (input.severity !== undefined) finding.severity = input.severity
       if (input.description !== undefined) finding.description = input.description
       if (input.status === 'resolved' && finding.status !== 'resolved') {
         finding.status = 'resolved'
         finding.resolution = input.resolution ?? null
         finding.resolvedBy = user.id
-        finding.resolvedAt = new Date()
+        finding.resolvedAt = now
       } else if (input.status === 'open') {
         finding.status = 'open'
         finding.resolution = null
@@ -116,8 +120,9 @@ export class FindingService {
       } else if (input.resolution !== undefined && finding.status === 'resolved') {
         finding.resolution = input.resolution
       }
+      finding.updatedAt = now
       await tx.getRepository(Finding).save(finding)
-      await recordAudit(tx, { actorId: user.id, action: 'finding.update', entityType: 'finding', entityId: finding.id, projectId: ctx.run.projectId, before, after: { severity: finding.severity, description: finding.description, status: finding.status, resolution: finding.resolution, runId } })
+      await recordAudit(tx, { actorId: user.id, action: 'finding.update', entityType: 'finding', entityId: finding.id, projectId: ctx.run.projectId, before, after: { severity: finding.severity, description: finding.description, status: finding.status, resolution: finding.resolution, runId }, occurredAt: now })
     })
     return (await this.listViews(runId)).find((f) => f.id === findingId)!
   }
@@ -148,8 +153,10 @@ export class FindingService {
         throw new AppError('unreadable_image', 'The image could not be read; it may be damaged', 422, { file: 'The image could not be read' })
       }
     }
+    const now = this.clock()
     const id = await this.db.transaction(async (tx) => {
       const attachment = await tx.getRepository(Attachment).save({
+        createdAt: now,
         organizationId: ctx.project.organizationId,
         storageKey: stored.key,
         sha256: stored.sha256,
@@ -158,8 +165,8 @@ export class FindingService {
         originalName: file.originalname.slice(0, 200) || `attachment.${extension}`,
         uploadedBy: user.id,
       })
-      const link = await tx.getRepository(RunAttachment).save({ runId, attachmentId: attachment.id, stepId: where.stepId, fieldId: where.fieldId ?? null, findingId: where.findingId ?? null, thumbnailKey })
-      await recordAudit(tx, { actorId: user.id, action: 'attachment.add', entityType: 'run_attachment', entityId: link.id, projectId: ctx.run.projectId, after: { runId, ...where, sha256: stored.sha256, mimeType: detected.mime, sizeBytes: stored.size } })
+      const link = await tx.getRepository(RunAttachment).save({ runId, attachmentId: attachment.id, stepId: where.stepId, fieldId: where.fieldId ?? null, findingId: where.findingId ?? null, thumbnailKey, createdAt: now })
+      await recordAudit(tx, { actorId: user.id, action: 'attachment.add', entityType: 'run_attachment', entityId: link.id, projectId: ctx.run.projectId, after: { runId, ...where, sha256: stored.sha256, mimeType: detected.mime, sizeBytes: stored.size }, occurredAt: now })
       return link.id
     })
     return (await this.attachmentViews(runId)).find((a) => a.id === id)!

@@ -4,10 +4,11 @@ import sharp from 'sharp'
 import type { DataSource } from 'typeorm'
 import type { ReportInput } from '@shared/types/report'
 import { AppError } from '../errors/app-error'
-import { Equipment, Organization, Project, Report, Run, RunAttachment } from '../entities'
+import { Equipment, Organization, Project, Report, Run, RunAttachment, Signature } from '../entities'
 import { renderMailText, type MailService } from '../mail/mail.service'
 import type { StorageService } from '../storage/storage'
 import { recordAudit } from './audit.service'
+import { systemClock, type Clock } from './clock'
 import type { EquipmentService } from './equipment.service'
 import type { ProjectService } from './project.service'
 import type { RunService } from './run.service'
@@ -28,6 +29,10 @@ export function reportContentSha256(input: Omit<ReportInput, 'contentSha256'>): 
 }
 
 const MAX_ATTEMPTS = 3
+
+function yearIn(date: Date, timeZone: string): string {
+  return new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric' }).format(date)
+}
 
 /**
  * Copies what the archive filters and searches on onto the report as it is issued: project, equipment, checklist,
@@ -104,6 +109,8 @@ export class ReportService {
       mail: MailService
       publicUrl: string
       renderer: () => ReportRenderer
+      /** When report rows are created (the system clock unless the demo loader replays history). */
+      clock?: Clock
     },
   ) {}
 
@@ -114,9 +121,16 @@ export class ReportService {
     let report = await this.db.getRepository(Report).findOneBy({ runId })
     if (!report) {
       const project = await this.db.getRepository(Project).findOneByOrFail({ id: run.projectId })
+      const accepted = await this.db.getRepository(Signature).findOneBy({ runId, meaning: 'accepted_by', voided: false })
       const [{ n }] = await this.db.query(`SELECT nextval('report_number_seq')::int AS n`)
-      const reportNumber = `SP-${new Date().getUTCFullYear()}-${String(n).padStart(6, '0')}`
-      report = await this.db.getRepository(Report).save({ runId, reportNumber, status: 'pending' as const, paper: project.reportPaper })
+      // The year is the year of acceptance where the project is, so a report accepted on 31 December keeps that year.
+      const year = yearIn(accepted?.signedAt ?? (this.deps.clock ?? systemClock)(), project.timeZone)
+      const reportNumber = `SP-${year}-${String(n).padStart(6, '0')}`
+      report = await this.db.getRepository(Report).save({ runId, reportNumber, status: 'pending' as const, paper: project.reportPaper, createdAt: (this.deps.clock ?? systemClock)() })
+      // Archive columns are filled at once, while the report is pending (and again when it is issued), so the archive
+      // can filter and count a report that is still waiting for its turn in the queue.
+      const input = await this.buildInput(report)
+      await this.db.transaction((tx) => indexForArchive(tx, report!.id, input, input.signatures.find((s) => s.meaning === 'accepted_by' && !s.voided)?.signedAtUtc ?? null, input.signatures.find((s) => s.meaning === 'performed_by' && !s.voided)?.signerId ?? null))
     }
     if (report.status === 'pending') await this.enqueueJob?.(report.id)
     return report

@@ -22,6 +22,7 @@ import { ChecklistTemplate, Equipment, Project, Reading, Run, RunChange, RunStep
 import { fieldErrors } from '../middleware/validate'
 import { recordAudit } from './audit.service'
 import { signatureRecord } from './signing.service'
+import { systemClock, type Clock } from './clock'
 import type { FindingService } from './finding.service'
 import type { ProjectService } from './project.service'
 
@@ -93,6 +94,7 @@ export class RunService {
   constructor(
     private readonly db: DataSource,
     private readonly projects: ProjectService,
+    private readonly clock: Clock = systemClock,
   ) {}
 
   findings?: FindingService
@@ -146,7 +148,8 @@ export class RunService {
       }
       const version = await tx.getRepository(TemplateVersion).findOne({ where: { templateId, status: 'published' }, order: { number: 'DESC' } })
       if (!version) throw new AppError('not_published', `${template.name} has no published version yet`, 409, { templateId: 'No published version' })
-      const run = await tx.getRepository(Run).save({ projectId: project.id, equipmentId, templateVersionId: version.id, state: 'in_progress' as const, startedBy: user.id })
+      const now = this.clock()
+      const run = await tx.getRepository(Run).save({ projectId: project.id, equipmentId, templateVersionId: version.id, state: 'in_progress' as const, startedBy: user.id, startedAt: now, updatedAt: now })
       const definition = version.definition as unknown as ChecklistDefinition
       const blank = [...fieldPlaces(definition).keys()].map((fieldId) => ({ runId: run.id, fieldId, entry: null } as Reading))
       const evaluations = evaluateAll({ definition, equipment, project }, blank, new Set())
@@ -172,6 +175,7 @@ export class RunService {
         entityId: run.id,
         projectId: project.id,
         after: { equipment: equipment.tag, template: template.key, version: version.number },
+        occurredAt: now,
       })
       return run.id
     })
@@ -353,14 +357,15 @@ export class RunService {
         )
       }
       const before = { entry: current.entry, notApplicable: current.notApplicable, naReason: current.naReason, justification: current.justification, verdict: current.verdict }
+      const now = this.clock()
       if (!unchanged) {
-        Object.assign(current, next, { version: current.version + 1, updatedBy: user.id, updatedAt: new Date() })
+        Object.assign(current, next, { version: current.version + 1, updatedBy: user.id, updatedAt: now })
         await repo.save(current)
       }
       const readings = await repo.findBy({ runId })
       const naSteps = new Set((await tx.getRepository(RunStep).findBy({ runId, notApplicable: true })).map((s) => s.stepId))
       await this.rejudge(tx, ctx, readings, naSteps)
-      await tx.getRepository(RunChange).insert({ id: input.changeId, runId, target: 'reading', targetId: fieldId, userId: user.id })
+      await tx.getRepository(RunChange).insert({ id: input.changeId, runId, target: 'reading', targetId: fieldId, userId: user.id, appliedAt: now })
       if (!unchanged) {
         const saved = readings.find((r) => r.fieldId === fieldId)!
         await recordAudit(tx, {
@@ -371,8 +376,9 @@ export class RunService {
           projectId: ctx.run.projectId,
           before,
           after: { entry: saved.entry, notApplicable: saved.notApplicable, naReason: saved.naReason, justification: saved.justification, verdict: saved.verdict },
+          occurredAt: now,
         })
-        await tx.query(`UPDATE run SET updated_at = now() WHERE id = $1`, [runId])
+        await tx.query(`UPDATE run SET updated_at = $2 WHERE id = $1`, [runId, now])
       }
       return { duplicate: false }
     })
@@ -411,19 +417,20 @@ export class RunService {
         const who = view.updatedByName ?? 'Someone'
         throw new AppError('step_conflict', `${who} changed this step's note or applicability meanwhile; keep theirs or save yours again`, 409, { [stepId]: `Changed by ${who}` }, { current: view })
       }
+      const now = this.clock()
       if (!unchanged) {
         const before = { note: step.note, notApplicable: step.notApplicable, naReason: step.naReason }
-        Object.assign(step, next, { version: step.version + 1, updatedBy: user.id, updatedAt: new Date() })
+        Object.assign(step, next, { version: step.version + 1, updatedBy: user.id, updatedAt: now })
         await repo.save(step)
         if (before.notApplicable !== step.notApplicable) {
           const readings = await tx.getRepository(Reading).findBy({ runId })
           const naSteps = new Set((await repo.findBy({ runId, notApplicable: true })).map((s) => s.stepId))
           await this.rejudge(tx, ctx, readings, naSteps)
         }
-        await recordAudit(tx, { actorId: user.id, action: 'step.set', entityType: 'run_step', entityId: `${runId}/${stepId}`, projectId: ctx.run.projectId, before, after: next })
-        await tx.query(`UPDATE run SET updated_at = now() WHERE id = $1`, [runId])
+        await recordAudit(tx, { actorId: user.id, action: 'step.set', entityType: 'run_step', entityId: `${runId}/${stepId}`, projectId: ctx.run.projectId, before, after: next, occurredAt: now })
+        await tx.query(`UPDATE run SET updated_at = $2 WHERE id = $1`, [runId, now])
       }
-      await tx.getRepository(RunChange).insert({ id: input.changeId, runId, target: 'step', targetId: stepId, userId: user.id })
+      await tx.getRepository(RunChange).insert({ id: input.changeId, runId, target: 'step', targetId: stepId, userId: user.id, appliedAt: now })
     })
     const step = await this.db.getRepository(RunStep).findOneByOrFail({ runId, stepId })
     return this.stepView(step)

@@ -12,6 +12,7 @@ import { Equipment, Finding, ProjectMember, Reading, Run, RunAttachment, RunStep
 import type { MailService } from '../mail/mail.service'
 import { renderMailText } from '../mail/mail.service'
 import { recordAudit } from './audit.service'
+import { systemClock, type Clock } from './clock'
 import type { FindingService } from './finding.service'
 import type { RunService } from './run.service'
 
@@ -81,6 +82,7 @@ export class SigningService {
     private readonly findings: FindingService,
     private readonly mail: MailService,
     private readonly publicUrl: string,
+    private readonly clock: Clock = systemClock,
   ) {}
 
   async list(runId: string): Promise<SignatureRecord[]> {
@@ -123,7 +125,9 @@ export class SigningService {
         const review = await this.findings.review(user, runId)
         if (!review.canSign) throw new AppError('not_ready', `The run cannot be signed yet: ${review.blockers[0]}`, 409, { review: review.blockers.join('; ') })
       }
+      const now = this.clock()
       const signature = await tx.getRepository(Signature).save({
+        signedAt: now,
         runId,
         meaning,
         signerId: user.id,
@@ -134,7 +138,7 @@ export class SigningService {
         snapshotSha256: snapshot.sha256,
       })
       const state = meaning === 'performed_by' ? 'submitted' : 'accepted'
-      await tx.query(`UPDATE run SET state = $2, version = version + 1, updated_at = now() WHERE id = $1`, [runId, state])
+      await tx.query(`UPDATE run SET state = $2, version = version + 1, updated_at = $3 WHERE id = $1`, [runId, state, now])
       await recordAudit(tx, {
         actorId: user.id,
         action: meaning === 'performed_by' ? 'run.sign_performed' : 'run.sign_accepted',
@@ -143,6 +147,7 @@ export class SigningService {
         projectId: ctx.run.projectId,
         before: { state: ctx.run.state },
         after: { state, signatureId: signature.id, snapshotSha256: snapshot.sha256, meaning },
+        occurredAt: now,
       })
       if (meaning === 'performed_by') {
         const reps: { email: string; display_name: string }[] = await tx.query(
@@ -186,10 +191,11 @@ export class SigningService {
       if (user.role !== 'owner_rep') throw AppError.forbidden("Only the owner's representative of this project returns a run")
       if (ctx.run.state !== 'submitted') throw new AppError('not_submitted', `Only a submitted run can be returned; this one is ${ctx.run.state.replace('_', ' ')}`, 409)
       const performer = await tx.getRepository(Signature).findOneBy({ runId, meaning: 'performed_by', voided: false })
+      const now = this.clock()
       if (performer) {
-        await tx.getRepository(Signature).update(performer.id, { voided: true, voidedAt: new Date(), voidReason: `Returned by ${user.displayName}: ${input.comments}` })
+        await tx.getRepository(Signature).update(performer.id, { voided: true, voidedAt: now, voidReason: `Returned by ${user.displayName}: ${input.comments}` })
       }
-      await tx.query(`UPDATE run SET state = 'returned', version = version + 1, updated_at = now() WHERE id = $1`, [runId])
+      await tx.query(`UPDATE run SET state = 'returned', version = version + 1, updated_at = $2 WHERE id = $1`, [runId, now])
       await recordAudit(tx, {
         actorId: user.id,
         action: 'run.return',
@@ -198,6 +204,7 @@ export class SigningService {
         projectId: ctx.run.projectId,
         before: { state: 'submitted', performerSignatureId: performer?.id ?? null },
         after: { state: 'returned', comments: input.comments, voidedSignatureId: performer?.id ?? null },
+        occurredAt: now,
       })
       if (performer) {
         const tech = await tx.getRepository(User).findOneBy({ id: performer.signerId })

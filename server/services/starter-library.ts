@@ -8,7 +8,7 @@ import { requireValidDefinition } from './template.service'
  * Gives an organisation every starter template it does not have yet (matched by key), each as published version 1.
  * A template the firm already has under that key, edited or retired, is left as it is. Returns how many were added.
  */
-export async function installStarterLibrary(manager: EntityManager, organizationId: string, publishedBy: string | null): Promise<number> {
+export async function installStarterLibrary(manager: EntityManager, organizationId: string, publishedBy: string | null, at: Date = new Date()): Promise<number> {
   let added = 0
   for (const starter of STARTER_LIBRARY) {
     if (await manager.getRepository(ChecklistTemplate).existsBy({ organizationId, key: starter.key })) continue
@@ -19,8 +19,10 @@ export async function installStarterLibrary(manager: EntityManager, organization
       name: starter.name,
       equipmentKind: starter.equipmentKind,
       description: starter.description,
+      createdAt: at,
+      updatedAt: at,
     })
-    const now = new Date()
+    const now = at
     const version = await manager.getRepository(TemplateVersion).save({
       templateId: template.id,
       number: 1,
@@ -30,6 +32,8 @@ export async function installStarterLibrary(manager: EntityManager, organization
       createdBy: publishedBy,
       publishedBy,
       publishedAt: now,
+      createdAt: now,
+      updatedAt: now,
     })
     await recordAudit(manager, {
       actorId: publishedBy,
@@ -37,6 +41,7 @@ export async function installStarterLibrary(manager: EntityManager, organization
       entityType: 'template_version',
       entityId: version.id,
       after: { key: starter.key, number: 1 },
+      occurredAt: now,
     })
     added += 1
   }
