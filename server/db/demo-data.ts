@@ -1,187 +1,215 @@
 import type { DataSource } from 'typeorm'
-import type { Role } from '@shared/types/roles'
 import { designPointSchemaFor, type EquipmentKind } from '@shared/schemas/design-point'
-import { hashPassword } from '../auth/passwords'
-import { Equipment, Organization, Project, ProjectMember, User } from '../entities'
 import { canonicalDesignPoint } from '@shared/format/design-point'
+import { hashPassword } from '../auth/passwords'
+import { ChecklistTemplate, Equipment, Organization, Project, ProjectMember, Report, User } from '../entities'
+import { recordAudit } from '../services/audit.service'
 import { installStarterLibrary } from '../services/starter-library'
+import { DEMO_ATTENDEES, DEMO_HISTORY } from './demo/history'
+import { DEMO_FIRM, DEMO_PEOPLE, DEMO_PROJECTS, demoChiller } from './demo/plant'
+import { acceptRun, demoServices, DemoClock, fillRun, transactionScoped, type Actor, type FilledRun } from './demo/replay'
+import { rng, type DesignValues } from './demo/readings'
+import { signatureDataUrl } from './demo/signature-image'
 
-/**
- * The demo scenario (every name invented): a commissioning firm starting chillers on two projects,
- * with one or more people of each role. Passwords are printed in the README for the demo only.
- */
-export const DEMO_FIRM = 'Tallowmere Commissioning Group'
-
-export const DEMO_PEOPLE: { email: string; displayName: string; role: Role; password: string }[] = [
-  { email: 'dana.whitlock@tallowmere.test', displayName: 'Dana Whitlock', role: 'admin', password: 'admin-demo-2026' },
-  { email: 'rafe.okafor@tallowmere.test', displayName: 'Rafe Okafor', role: 'technician', password: 'tech-demo-2026' },
-  { email: 'ines.marlow@tallowmere.test', displayName: 'Ines Marlow', role: 'technician', password: 'tech-demo-2026' },
-  { email: 'maren.solvik@vexleyhealth.test', displayName: 'Maren Solvik', role: 'owner_rep', password: 'owner-demo-2026' },
-  { email: 'priya.halden@corranpoly.test', displayName: 'Priya Halden', role: 'owner_rep', password: 'owner-demo-2026' },
-  { email: 'theo.brannick@pellworthmech.test', displayName: 'Theo Brannick', role: 'contractor', password: 'closeout-demo-2026' },
-]
-
-/** One of the demo's 500-ton chillers (also the sample report's machine). */
-export function demoChiller(tag: string, location: string, serialNumber: string) {
-  // 500 tons at the AHRI 550/590 rating conditions: 54 → 44 °F at 2.4 gpm/ton, 85 → 94.3 °F at 3.0 gpm/ton;
-  // 0.576 kW/ton × 500 tons = 288 kW input.
-  return {
-    tag,
-    kind: 'centrifugal_chiller',
-    location,
-    manufacturer: 'Halvard Thermal',
-    model: 'HT-C500',
-    serialNumber,
-    yearBuilt: 2024,
-    designPoint: {
-      refrigerant: 'R-134a',
-      capacity: { value: 500, unit: 'TR' },
-      evaporatorEnteringWaterTemp: { value: 54, unit: 'degF' },
-      evaporatorLeavingWaterTemp: { value: 44, unit: 'degF' },
-      evaporatorWaterFlow: { value: 1200, unit: 'gpm' },
-      evaporatorPressureDrop: { value: 18.5, unit: 'ftH2O' },
-      condenserEnteringWaterTemp: { value: 85, unit: 'degF' },
-      condenserLeavingWaterTemp: { value: 94.3, unit: 'degF' },
-      condenserWaterFlow: { value: 1500, unit: 'gpm' },
-      condenserPressureDrop: { value: 16.2, unit: 'ftH2O' },
-      designKwPerTon: { value: 0.576, unit: 'kWPerTon' },
-      inputPower: { value: 288, unit: 'kW' },
-      voltage: { value: 460, unit: 'V' },
-      frequency: { value: 60, unit: 'Hz' },
-      fullLoadAmps: { value: 420, unit: 'A' },
-      oilPressureSetpoint: { value: 35, unit: 'psid' },
-      // Plain water without freeze protection: the machine's allowed leaving setpoint band (common practice 38–55 °F).
-      chilledWaterSetpointMin: { value: 40, unit: 'degF' },
-      chilledWaterSetpointMax: { value: 55, unit: 'degF' },
-    },
-  }
-}
-
-function pump(tag: string, service: string, location: string, serialNumber: string, gpm: number, headFt: number, hp: number, fla: number) {
-  return {
-    tag,
-    kind: 'pump',
-    location,
-    manufacturer: 'Quarrington Pump Co.',
-    model: 'QP-8x6-13',
-    serialNumber,
-    yearBuilt: 2025,
-    designPoint: {
-      pumpService: service,
-      pumpDesignFlow: { value: gpm, unit: 'gpm' },
-      pumpDesignHead: { value: headFt, unit: 'ftH2O' },
-      motorRatedPower: { value: hp, unit: 'hp' },
-      motorRatedSpeed: { value: 1780, unit: 'rpm' },
-      voltage: { value: 460, unit: 'V' },
-      frequency: { value: 60, unit: 'Hz' },
-      fullLoadAmps: { value: fla, unit: 'A' },
-    },
-  }
-}
-
-const DEMO_PROJECTS = [
-  {
-    code: 'VXH-CUP',
-    name: 'Vexley General Hospital — central utility plant chiller replacement',
-    siteName: 'Vexley General Hospital',
-    siteAddress: '1400 Fernhollow Road, Marrowick, IL 60999',
-    timeZone: 'America/Chicago',
-    unitSystem: 'IP' as const,
-    reportPaper: 'Letter' as const,
-    distributionList: ['facilities.records@vexleyhealth.test', 'closeout@pellworthmech.test'],
-    members: ['rafe.okafor@tallowmere.test', 'ines.marlow@tallowmere.test', 'maren.solvik@vexleyhealth.test', 'theo.brannick@pellworthmech.test'],
-    equipment: [
-      demoChiller('CH-1', 'Central utility plant, chiller bay east', 'HX-24-0311'),
-      demoChiller('CH-2', 'Central utility plant, chiller bay west', 'HX-24-0312'),
-      pump('CHWP-1', 'chilled_water', 'Primary chilled-water pump 1', 'QP-25-7781', 1200, 85, 40, 48),
-      pump('CWP-1', 'condenser_water', 'Condenser-water pump 1', 'QP-25-7790', 1500, 70, 40, 47),
-    ],
-  },
-  {
-    code: 'CRP-B4',
-    name: 'Corran Polytechnic — Building 4 cooling plant',
-    siteName: 'Corran Polytechnic, North Campus',
-    siteAddress: '88 Quillon Avenue, Harwick Bay, ON K0X 9Z9',
-    timeZone: 'America/Toronto',
-    unitSystem: 'SI' as const,
-    reportPaper: 'A4' as const,
-    distributionList: ['plant.operations@corranpoly.test'],
-    members: ['ines.marlow@tallowmere.test', 'priya.halden@corranpoly.test', 'theo.brannick@pellworthmech.test'],
-    equipment: [
-      {
-        tag: 'CH-B4-1',
-        kind: 'centrifugal_chiller',
-        location: 'Building 4 plant room, level 0',
-        manufacturer: 'Halvard Thermal',
-        model: 'HT-CZ1400',
-        serialNumber: 'HT-25-04418',
-        yearBuilt: 2025,
-        // 1400 kW at 12 → 7 °C: 1400 / (4.19 kJ/kg·K × 5 K) ≈ 66.8 kg/s ≈ 67 L/s; condenser carries 1400 + 221 kW over
-        // 29.5 → 35 °C: 1621 / (4.18 × 5.5) ≈ 70.5 L/s. 0.158 kW/kW is COP 6.33.
-        designPoint: {
-          refrigerant: 'R-1233zd(E)',
-          capacity: { value: 1400, unit: 'kW' },
-          evaporatorEnteringWaterTemp: { value: 12, unit: 'degC' },
-          evaporatorLeavingWaterTemp: { value: 7, unit: 'degC' },
-          evaporatorWaterFlow: { value: 67, unit: 'Lps' },
-          evaporatorPressureDrop: { value: 62, unit: 'kPad' },
-          condenserEnteringWaterTemp: { value: 29.5, unit: 'degC' },
-          condenserLeavingWaterTemp: { value: 35, unit: 'degC' },
-          condenserWaterFlow: { value: 70.5, unit: 'Lps' },
-          condenserPressureDrop: { value: 58, unit: 'kPad' },
-          designKwPerTon: { value: 0.158, unit: 'kWPerKW' },
-          inputPower: { value: 221, unit: 'kW' },
-          voltage: { value: 600, unit: 'V' },
-          frequency: { value: 60, unit: 'Hz' },
-          fullLoadAmps: { value: 238, unit: 'A' },
-          oilPressureSetpoint: { value: 170, unit: 'kPad' },
-          chilledWaterSetpointMin: { value: 5, unit: 'degC' },
-          chilledWaterSetpointMax: { value: 12, unit: 'degC' },
-        },
-      },
-    ],
-  },
-]
+export { DEMO_FIRM, DEMO_PEOPLE, DEMO_PROJECTS, DEMO_HISTORY, demoChiller }
 
 /** Whether the database holds no people yet (the demo data loads only then). */
 export async function isEmpty(db: DataSource): Promise<boolean> {
   return (await db.getRepository(User).count()) === 0
 }
 
-/** Loads the demo scenario in one transaction. */
-export async function loadDemoData(db: DataSource): Promise<void> {
-  await db.transaction(async (tx) => {
-    const org = await tx.getRepository(Organization).save({ name: DEMO_FIRM })
+const DAY_MS = 86_400_000
+
+/** The UTC instant of a wall-clock time in `timeZone` (two passes settle the offset across a daylight-saving change). */
+export function zonedTime(year: number, month: number, day: number, hours: number, timeZone: string): Date {
+  const wall = Date.UTC(year, month - 1, day, Math.floor(hours), Math.round((hours % 1) * 60))
+  let t = wall
+  for (let i = 0; i < 2; i++) {
+    const p = Object.fromEntries(
+      new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit', hour: '2-digit', minute: '2-digit', hourCycle: 'h23' })
+        .formatToParts(new Date(t))
+        .map((x) => [x.type, x.value]),
+    )
+    const shown = Date.UTC(Number(p.year), Number(p.month) - 1, Number(p.day), Number(p.hour), Number(p.minute))
+    t += wall - shown
+  }
+  return new Date(t)
+}
+
+/** The calendar day `daysAgo` before `now` in `timeZone`, moved back to the Friday before when it falls on a weekend. */
+function workingDay(now: Date, daysAgo: number, timeZone: string, forwardBy = 0): { y: number; m: number; d: number; label: string } {
+  const local = (t: number) => {
+    const p = Object.fromEntries(new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' }).formatToParts(new Date(t)).map((x) => [x.type, x.value]))
+    return { y: Number(p.year), m: Number(p.month), d: Number(p.day) }
+  }
+  const { y, m, d } = local(now.getTime() - daysAgo * DAY_MS)
+  const date = new Date(Date.UTC(y, m - 1, d))
+  while ([0, 6].includes(date.getUTCDay())) date.setUTCDate(date.getUTCDate() - 1)
+  for (let added = 0; added < forwardBy; ) {
+    date.setUTCDate(date.getUTCDate() + 1)
+    if (![0, 6].includes(date.getUTCDay())) added += 1
+  }
+  return { y: date.getUTCFullYear(), m: date.getUTCMonth() + 1, d: date.getUTCDate(), label: date.toISOString().slice(0, 10) }
+}
+
+export interface DemoLoadSummary {
+  runs: number
+  reports: number
+}
+
+/**
+ * Loads the demo scenario — firm, people, projects, equipment, the starter library and three years of accepted
+ * start-ups — in one transaction: it commits whole or not at all, so a failed load leaves an empty database and the
+ * next `npm start` simply tries again.
+ *
+ * The history goes through the product's own services (run, finding, signing, report), so readings are judged by the
+ * shared rules, signatures carry the snapshot SHA-256 they signed and every change has its audit event. Back-dating:
+ * those services read the time from an injected clock (`server/services/clock.ts`, the system clock everywhere else);
+ * here it is a `DemoClock` set to each invented moment, so every stamp is written once, as it would have been on the
+ * day — the database's freeze triggers (accepted runs, signatures, the append-only audit trail) never have to be
+ * bypassed, and the snapshot hashes need no recomputing because time is not part of what is signed. The reports are
+ * left pending with their archive columns filled; the report queue renders and seals them when the product starts.
+ */
+export async function loadDemoData(db: DataSource, options: { now?: Date } = {}): Promise<DemoLoadSummary> {
+  const now = options.now ?? new Date()
+  const ago = (days: number) => new Date(now.getTime() - days * DAY_MS)
+  return db.transaction(async (tx) => {
+    const clock = new DemoClock()
+    const scoped = transactionScoped(tx)
+    const services = demoServices(scoped, clock)
+    const firstDay = Math.max(...DEMO_PROJECTS.map((p) => p.createdDaysAgo)) + 10
+
+    const org = await tx.getRepository(Organization).save({ name: DEMO_FIRM, createdAt: ago(firstDay) })
     const hashes = new Map<string, string>()
     for (const password of new Set(DEMO_PEOPLE.map((p) => p.password))) hashes.set(password, await hashPassword(password))
+    // Each person joins a little before the first project they work on; the firm's admin and its first technicians at the start.
+    const joined = (email: string) => {
+      const first = DEMO_PROJECTS.filter((p) => p.members.includes(email)).map((p) => p.createdDaysAgo)
+      return first.length ? Math.max(...first) + 5 : firstDay
+    }
     const users = await tx.getRepository(User).save(
-      DEMO_PEOPLE.map((p) => ({
-        organizationId: org.id,
-        email: p.email,
-        displayName: p.displayName,
-        role: p.role,
-        passwordHash: hashes.get(p.password)!,
-        active: true,
-      })),
+      DEMO_PEOPLE.map((p) => {
+        const at = ago(p.role === 'admin' ? firstDay : joined(p.email))
+        return { organizationId: org.id, email: p.email, displayName: p.displayName, role: p.role, passwordHash: hashes.get(p.password)!, active: true, createdAt: at, updatedAt: at }
+      }),
     )
     const byEmail = new Map(users.map((u) => [u.email, u]))
-    await installStarterLibrary(tx, org.id, users.find((u) => u.role === 'admin')!.id)
-    for (const { members, equipment, ...fields } of DEMO_PROJECTS) {
-      const project = await tx.getRepository(Project).save({ ...fields, organizationId: org.id })
-      await tx.getRepository(ProjectMember).save(members.map((email) => ({ projectId: project.id, userId: byEmail.get(email)!.id })))
+    const admin = users.find((u) => u.role === 'admin')!
+    await installStarterLibrary(tx, org.id, admin.id, ago(firstDay - 1))
+    const templates = new Map((await tx.getRepository(ChecklistTemplate).findBy({ organizationId: org.id })).map((t) => [t.equipmentKind, t.id]))
+
+    const actors = new Map<string, Actor>()
+    for (const p of DEMO_PEOPLE) {
+      const u = byEmail.get(p.email)!
+      actors.set(p.email, { user: { id: u.id, email: u.email, displayName: u.displayName, role: u.role, organizationName: org.name }, password: p.password, signature: await signatureDataUrl(p.displayName) })
+    }
+
+    const projects = new Map<string, { row: Project; equipment: Map<string, Equipment>; rep: string; attendees: string }>()
+    for (const { members, equipment, createdDaysAgo, ...fields } of DEMO_PROJECTS) {
+      const created = ago(createdDaysAgo)
+      const project = await tx.getRepository(Project).save({ ...fields, organizationId: org.id, createdAt: created, updatedAt: created })
+      await tx.getRepository(ProjectMember).save(members.map((email) => ({ projectId: project.id, userId: byEmail.get(email)!.id, addedAt: created })))
+      const items = new Map<string, Equipment>()
       for (const { designPoint, ...item } of equipment) {
         // Demo data goes through the same schema as the API, so it can never hold a design point the API would refuse.
         const checked = await designPointSchemaFor(item.kind as EquipmentKind).validate(designPoint, { abortEarly: false })
         const stored = canonicalDesignPoint(checked as Record<string, unknown>)
-        await tx.getRepository(Equipment).save({
+        const at = ago(createdDaysAgo - 2)
+        items.set(item.tag, await tx.getRepository(Equipment).save({
           ...item,
           projectId: project.id,
           notes: '',
           refrigerant: typeof stored.refrigerant === 'string' ? stored.refrigerant : null,
           designPoint: stored,
           nameplatePhotoId: null,
-        })
+          createdAt: at,
+          updatedAt: at,
+        }))
+      }
+      const rep = members.find((email) => DEMO_PEOPLE.find((p) => p.email === email)?.role === 'owner_rep')!
+      projects.set(project.code, { row: project, equipment: items, rep, attendees: DEMO_ATTENDEES[project.code] ?? '' })
+    }
+
+    // The history as one timeline: each run is filled on its day, and every acceptance (and the one deactivation)
+    // that falls before the next run's start happens first, so report numbers follow the acceptance dates.
+    type Pending = { at: Date; act: () => Promise<void> }
+    const pending: Pending[] = []
+    const flushUntil = async (until: Date) => {
+      pending.sort((a, b) => a.at.getTime() - b.at.getTime())
+      while (pending.length && pending[0].at <= until) {
+        const next = pending.shift()!
+        clock.set(next.at)
+        await next.act()
       }
     }
+    for (const person of DEMO_PEOPLE.filter((p) => p.deactivatedDaysAgo !== undefined)) {
+      const u = byEmail.get(person.email)!
+      const at = zonedTimeOfDay(ago(person.deactivatedDaysAgo!), 'America/Chicago', 16.5)
+      pending.push({
+        at,
+        act: async () => {
+          await tx.getRepository(User).update(u.id, { active: false, updatedAt: clock.now() })
+          await recordAudit(tx, {
+            actorId: admin.id, action: 'user.update', entityType: 'user', entityId: u.id,
+            before: { displayName: u.displayName, role: u.role, active: true }, after: { displayName: u.displayName, role: u.role, active: false },
+            occurredAt: clock.now(),
+          })
+        },
+      })
+    }
+
+    const filled = new Map<string, FilledRun & { accepted?: { reportNumber: string; on: string } }>()
+    const busyUntil = new Map<string, Date>()
+    let seed = 20231
+    for (const plan of DEMO_HISTORY) {
+      const project = projects.get(plan.project)!
+      const tz = project.row.timeZone
+      const day = workingDay(now, plan.daysAgo, tz)
+      const dayStart = (hours: number) => zonedTime(day.y, day.m, day.d, hours, tz)
+      const equipment = project.equipment.get(plan.tag)!
+      const start = new Date(Math.max(dayStart(equipment.kind === 'pump' ? 8 : 7.5).getTime(), (busyUntil.get(`${plan.technician}/${day.label}`)?.getTime() ?? 0) + 25 * 60_000))
+      await flushUntil(start)
+      clock.set(start)
+      const previous = plan.retestOf ? filled.get(plan.retestOf) : undefined
+      if (plan.retestOf && !previous?.accepted) throw new Error(`demo run ${plan.id} re-tests ${plan.retestOf}, which is not accepted before it`)
+      const run = await fillRun(services, clock, rng(seed++), plan, {
+        tech: actors.get(plan.technician)!,
+        equipment: { id: equipment.id, kind: equipment.kind, designPoint: equipment.designPoint as DesignValues },
+        templateId: templates.get(equipment.kind)!,
+        unitSystem: project.row.unitSystem,
+        dayStart,
+        attendees: project.attendees,
+        retest: previous?.accepted ? { of: previous, reportNumber: previous.accepted.reportNumber, acceptedOn: previous.accepted.on } : undefined,
+      })
+      busyUntil.set(`${plan.technician}/${day.label}`, clock.now())
+      const record: FilledRun & { accepted?: { reportNumber: string; on: string } } = run
+      filled.set(plan.id, record)
+      // The owner's representative signs on a later working day, in the morning or early afternoon — or, on the day
+      // itself, a while after the performer.
+      const acceptDay = workingDay(now, plan.daysAgo, tz, plan.acceptAfterDays)
+      const r = rng(seed * 7)
+      const acceptAt = plan.acceptAfterDays === 0
+        ? new Date(run.performerSignedAt.getTime() + r.between(30, 80) * 60_000)
+        : zonedTime(acceptDay.y, acceptDay.m, acceptDay.d, r.between(9.5, 15.5), tz)
+      if (acceptAt >= now) throw new Error(`demo run ${plan.id} would be accepted in the future`)
+      pending.push({
+        at: acceptAt,
+        act: async () => {
+          await acceptRun(services, actors.get(project.rep)!, run.runId)
+          const report = await tx.getRepository(Report).findOneByOrFail({ runId: run.runId })
+          record.accepted = { reportNumber: report.reportNumber, on: acceptDay.label }
+        },
+      })
+    }
+    await flushUntil(now)
+    const reports = await tx.getRepository(Report).countBy({ status: 'pending' })
+    return { runs: DEMO_HISTORY.length, reports }
   })
 }
+
+/** `hours` o'clock on the local day of `date` in `timeZone`. */
+function zonedTimeOfDay(date: Date, timeZone: string, hours: number): Date {
+  const p = Object.fromEntries(new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' }).formatToParts(date).map((x) => [x.type, x.value]))
+  return zonedTime(Number(p.year), Number(p.month), Number(p.day), hours, timeZone)
+}
+

@@ -1,24 +1,33 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import request from 'supertest'
-import { DEMO_PEOPLE, isEmpty, loadDemoData } from '../../server/db/demo-data'
+import { DEMO_HISTORY, DEMO_PEOPLE, isEmpty, loadDemoData } from '../../server/db/demo-data'
+import { runSnapshot } from '../../server/services/signing.service'
 import { createTestContext, resetDatabase, type TestContext } from '../helpers/context'
 
 let ctx: TestContext
+let loadMs = 0
+let summary: Awaited<ReturnType<typeof loadDemoData>>
+const loadedAt = new Date()
+
 beforeAll(async () => {
   ctx = await createTestContext()
   await resetDatabase(ctx.db)
-})
+  expect(await isEmpty(ctx.db)).toBe(true)
+  const started = performance.now()
+  summary = await loadDemoData(ctx.db, { now: loadedAt })
+  loadMs = performance.now() - started
+  console.log(`demo data loaded in ${(loadMs / 1000).toFixed(1)} s (${summary.runs} runs, ${summary.reports} reports pending)`)
+}, 600_000)
 afterAll(() => ctx.close())
 
-describe('demo data', () => {
-  it('when loaded into an empty database, then every demo person signs in and sees their projects and equipment', async () => {
-    expect(await isEmpty(ctx.db)).toBe(true)
-    await loadDemoData(ctx.db)
-    expect(await isEmpty(ctx.db)).toBe(false)
+const q = <T = Record<string, unknown>>(sql: string, params: unknown[] = []) => ctx.db.query(sql, params) as Promise<T[]>
 
+describe('demo data', () => {
+  it('when loaded into an empty database, then every active demo person signs in and sees their projects and equipment', async () => {
+    expect(await isEmpty(ctx.db)).toBe(false)
     const roles = new Set(DEMO_PEOPLE.map((p) => p.role))
     expect([...roles].sort()).toEqual(['admin', 'contractor', 'owner_rep', 'technician'])
-    for (const person of DEMO_PEOPLE) {
+    for (const person of DEMO_PEOPLE.filter((p) => p.deactivatedDaysAgo === undefined)) {
       const agent = request.agent(ctx.app)
       await agent.post('/api/session').send({ email: person.email, password: person.password }).expect(200)
       const projects = (await agent.get('/api/projects')).body.projects
@@ -29,8 +38,107 @@ describe('demo data', () => {
         expect(equipment.body.equipment.length).toBe(p.equipmentCount)
       }
     }
-    const emails = DEMO_PEOPLE.map((p) => p.email)
-    expect(emails.every((e) => e.endsWith('.test'))).toBe(true)
+    expect(DEMO_PEOPLE.every((p) => p.email.endsWith('.test'))).toBe(true)
+  })
+
+  it('when loaded, then at least 50 runs are accepted over about three years, all in the past and in working hours where each project is', async () => {
+    const runs = await q<{ state: string; n: number }>(`SELECT state, count(*)::int AS n FROM run GROUP BY state`)
+    expect(runs).toEqual([{ state: 'accepted', n: DEMO_HISTORY.length }])
+    expect(DEMO_HISTORY.length).toBeGreaterThanOrEqual(50)
+    const accepted = await q<{ signed_at: Date; time_zone: string }>(`SELECT signed_at, time_zone FROM signature WHERE meaning = 'accepted_by'`)
+    const times = accepted.map((a) => a.signed_at.getTime())
+    expect(Math.max(...times)).toBeLessThan(loadedAt.getTime())
+    expect((loadedAt.getTime() - Math.min(...times)) / 86_400_000).toBeGreaterThan(2.5 * 365)
+    for (const a of accepted) {
+      const local = new Intl.DateTimeFormat('en-GB', { timeZone: a.time_zone, hour: 'numeric', hourCycle: 'h23', weekday: 'short' }).formatToParts(a.signed_at)
+      const hour = Number(local.find((p) => p.type === 'hour')!.value)
+      expect(hour).toBeGreaterThanOrEqual(8)
+      expect(hour).toBeLessThan(18)
+      expect(['Sat', 'Sun']).not.toContain(local.find((p) => p.type === 'weekday')!.value)
+    }
+    // Everything the history left behind carries the invented time: nothing but this test's sign-ins has the load time.
+    const late = await q<{ n: number }>(
+      `SELECT (SELECT count(*) FROM audit_event WHERE occurred_at > $1 AND action NOT LIKE 'session.%')::int
+            + (SELECT count(*) FROM reading WHERE updated_at > $1)::int
+            + (SELECT count(*) FROM run WHERE updated_at > $1 OR started_at > $1)::int
+            + (SELECT count(*) FROM report WHERE created_at > $1)::int AS n`,
+      [new Date(loadedAt.getTime() - 3 * 86_400_000)],
+    )
+    expect(late[0].n).toBe(0)
+  })
+
+  it('when loaded, then every run carries a performer and an acceptance signature whose snapshot hash verifies against the data, with the audit trail', async () => {
+    const runs = await q<{ id: string }>(`SELECT id FROM run`)
+    for (const { id } of runs) {
+      const sigs = await q<{ meaning: string; snapshot_sha256: string; printed_name: string; role: string; image_data_url: string; signed_at: Date }>(
+        `SELECT meaning, snapshot_sha256, printed_name, role, image_data_url, signed_at FROM signature WHERE run_id = $1 AND NOT voided ORDER BY signed_at`, [id])
+      expect(sigs.map((s) => s.meaning)).toEqual(['performed_by', 'accepted_by'])
+      const { sha256 } = await runSnapshot(ctx.db.manager, id)
+      for (const s of sigs) {
+        expect(s.snapshot_sha256).toBe(sha256)
+        expect(s.image_data_url).toMatch(/^data:image\/png;base64,iVBORw0KGgo/)
+        expect(s.printed_name.length).toBeGreaterThan(3)
+      }
+      expect(sigs.map((s) => s.role)).toEqual(['Commissioning technician', "Owner's representative"])
+      const actions = (await q<{ action: string; occurred_at: Date }>(`SELECT action, occurred_at FROM audit_event WHERE entity_id = $1 ORDER BY id`, [id]))
+      expect(actions.map((a) => a.action)).toEqual(['run.start', 'run.sign_performed', 'run.sign_accepted'])
+      expect(actions[2].occurred_at.getTime()).toBe(sigs[1].signed_at.getTime())
+    }
+    const readingEvents = await q<{ n: number }>(`SELECT count(*)::int AS n FROM audit_event WHERE action = 'reading.set'`)
+    expect(readingEvents[0].n).toBeGreaterThan(DEMO_HISTORY.length * 20)
+  })
+
+  it('when loaded, then each accepted run has a pending report numbered by its acceptance year with its archive columns filled', async () => {
+    const rows = await q<Record<string, unknown>>(
+      `SELECT r.status, r.report_number, r.project_id, r.equipment_id, r.template_id, r.technician_id, r.accepted_at, r.fail_count, r.marginal_count,
+              r.open_finding_count, r.search IS NOT NULL AS searchable, run.project_id AS run_project, run.equipment_id AS run_equipment,
+              s.signed_at AS accepted_signature, p.time_zone
+         FROM report r JOIN run ON run.id = r.run_id JOIN project p ON p.id = run.project_id
+         JOIN signature s ON s.run_id = run.id AND s.meaning = 'accepted_by'`,
+    )
+    expect(rows.length).toBe(DEMO_HISTORY.length)
+    expect(summary.reports).toBe(DEMO_HISTORY.length)
+    for (const r of rows) {
+      expect(r).toMatchObject({ status: 'pending', searchable: true, project_id: r.run_project, equipment_id: r.run_equipment })
+      expect(r.template_id).toBeTruthy()
+      expect(r.technician_id).toBeTruthy()
+      expect((r.accepted_at as Date).getTime()).toBe((r.accepted_signature as Date).getTime())
+      for (const c of ['fail_count', 'marginal_count', 'open_finding_count']) expect(typeof r[c]).toBe('number')
+      const year = new Intl.DateTimeFormat('en-CA', { timeZone: r.time_zone as string, year: 'numeric' }).format(r.accepted_at as Date)
+      expect(r.report_number).toMatch(new RegExp(`^SP-${year}-\\d{6}$`))
+    }
+    // Numbers follow the acceptance dates.
+    const ordered = rows.slice().sort((a, b) => (a.accepted_at as Date).getTime() - (b.accepted_at as Date).getTime()).map((r) => (r.report_number as string).slice(-6))
+    expect(ordered).toEqual(ordered.slice().sort())
+  })
+
+  it('when loaded, then the archive has re-tests superseding earlier reports, a deactivated technician with reports, open findings and a mix of verdicts', async () => {
+    const superseded = await q<{ n: number }>(
+      `SELECT count(*)::int AS n FROM report a JOIN report b ON b.equipment_id = a.equipment_id AND b.template_id = a.template_id AND b.accepted_at > a.accepted_at`,
+    )
+    expect(superseded[0].n).toBeGreaterThanOrEqual(5)
+    const gone = await q<{ active: boolean; reports: number }>(
+      `SELECT u.active, (SELECT count(*)::int FROM report r WHERE r.technician_id = u.id) AS reports FROM app_user u WHERE u.role = 'technician' AND NOT u.active`,
+    )
+    expect(gone).toHaveLength(1)
+    expect(gone[0].reports).toBeGreaterThan(3)
+    const mix = await q<{ clean: number; marginal: number; failed: number; open: number }>(
+      `SELECT count(*) FILTER (WHERE fail_count = 0 AND marginal_count = 0)::int AS clean,
+              count(*) FILTER (WHERE fail_count = 0 AND marginal_count > 0)::int AS marginal,
+              count(*) FILTER (WHERE fail_count > 0)::int AS failed,
+              count(*) FILTER (WHERE open_finding_count > 0)::int AS open
+         FROM report`,
+    )
+    expect(mix[0].clean).toBeGreaterThan(DEMO_HISTORY.length / 2)
+    expect(mix[0].marginal).toBeGreaterThanOrEqual(4)
+    expect(mix[0].failed).toBeGreaterThanOrEqual(3)
+    expect(mix[0].open).toBeGreaterThanOrEqual(3)
+    const findings = await q<{ status: string; n: number }>(`SELECT status, count(*)::int AS n FROM finding GROUP BY status ORDER BY status`)
+    expect(findings.map((f) => f.status)).toEqual(['open', 'resolved'])
+    const timings = await q<{ n: number }>(`SELECT count(*)::int AS n FROM reading WHERE field_id = 'oilPressureRamp' AND verdict = 'pass'`)
+    expect(timings[0].n).toBeGreaterThanOrEqual(3)
+    const sent = await q<{ status: string; n: number }>(`SELECT status, count(*)::int AS n FROM outbound_mail GROUP BY status`)
+    expect(sent).toEqual([{ status: 'sent', n: expect.any(Number) }])
   })
 })
 
@@ -63,4 +171,23 @@ describe('starter library', () => {
     const [{ n }] = await ctx.db.query(`SELECT count(*)::int AS n FROM checklist_template WHERE organization_id = $1`, [org.id])
     expect(n).toBe(2)
   })
+})
+
+describe('loading as one step', () => {
+  it('when the load fails half way, then nothing of it is left (the next start loads it again)', async () => {
+    await resetDatabase(ctx.db)
+    // The database refuses the sixth report, as a crash half way through the history would.
+    await ctx.db.query(`CREATE FUNCTION demo_test_refuse_report() RETURNS trigger LANGUAGE plpgsql AS $$
+      BEGIN IF (SELECT count(*) FROM report) >= 5 THEN RAISE EXCEPTION 'refused for the test'; END IF; RETURN NEW; END $$`)
+    await ctx.db.query(`CREATE TRIGGER demo_test_refuse_report BEFORE INSERT ON report FOR EACH ROW EXECUTE FUNCTION demo_test_refuse_report()`)
+    try {
+      await expect(loadDemoData(ctx.db)).rejects.toThrow(/refused for the test/)
+    } finally {
+      await ctx.db.query(`DROP TRIGGER demo_test_refuse_report ON report`)
+      await ctx.db.query(`DROP FUNCTION demo_test_refuse_report`)
+    }
+    expect(await isEmpty(ctx.db)).toBe(true)
+    const [{ n }] = await ctx.db.query(`SELECT (SELECT count(*) FROM run) + (SELECT count(*) FROM audit_event) + (SELECT count(*) FROM project) + (SELECT count(*) FROM outbound_mail) AS n`)
+    expect(Number(n)).toBe(0)
+  }, 600_000)
 })
