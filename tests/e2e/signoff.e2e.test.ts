@@ -10,7 +10,7 @@ let product: RunningProduct
 
 beforeAll(async () => {
   product = await startProduct('startproof_e2e_signoff')
-}, 120_000)
+}, 400_000)
 
 afterAll(() => product?.stop())
 
