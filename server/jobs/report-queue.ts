@@ -22,8 +22,9 @@ export class ReportQueue {
     await boss.start()
     await boss.createQueue(QUEUE, { name: QUEUE, retryLimit: 2, retryDelay: 5, retryBackoff: true, expireInSeconds: 300 })
     this.boss = boss
+    // A report someone has just accepted goes before the backlog taken up at start (e.g. a first start's demo archive).
     this.reports.enqueueJob = async (reportId) => {
-      await boss.send(QUEUE, { reportId }, { singletonKey: reportId })
+      await boss.send(QUEUE, { reportId }, { singletonKey: reportId, priority: 1 })
     }
     if (this.options.work !== false) {
       await boss.work<{ reportId: string }>(QUEUE, { batchSize: 1, pollingIntervalSeconds: 1 }, async ([job]) => {
@@ -31,7 +32,7 @@ export class ReportQueue {
       })
     }
     // Reports accepted while no queue ran (or whose job was lost) are picked up now.
-    for (const id of await this.reports.pendingIds()) await this.reports.enqueueJob(id)
+    for (const id of await this.reports.pendingIds()) await boss.send(QUEUE, { reportId: id }, { singletonKey: id, priority: 0 })
   }
 
   async stop(): Promise<void> {

@@ -40,6 +40,16 @@ export class DemoClock {
  * always; on this connection TypeORM nests those as savepoints, so the whole demo commits or rolls back as one step.
  */
 export function transactionScoped(tx: EntityManager): DataSource {
+  // The services run some reads side by side (Promise.all); on a pool those take separate connections, here they
+  // share one, so they are queued one after another instead of being handed to the pg client at once.
+  const runner = tx.queryRunner!
+  const query = runner.query.bind(runner) as (...args: unknown[]) => Promise<unknown>
+  let last: Promise<unknown> = Promise.resolve()
+  runner.query = ((...args: unknown[]) => {
+    const next = last.then(() => query(...args))
+    last = next.catch(() => undefined)
+    return next
+  }) as typeof runner.query
   return new Proxy(tx, { get: (target, prop, receiver) => (prop === 'manager' ? target : Reflect.get(target, prop, receiver)) }) as unknown as DataSource
 }
 
