@@ -160,7 +160,7 @@ export async function loadDemoData(db: DataSource, options: { now?: Date } = {})
 
     const filled = new Map<string, FilledRun & { accepted?: { reportNumber: string; on: string } }>()
     const busyUntil = new Map<string, Date>()
-    let seed = 20231
+    let stream = 20231
     for (const plan of DEMO_HISTORY) {
       const project = projects.get(plan.project)!
       const tz = project.row.timeZone
@@ -172,7 +172,7 @@ export async function loadDemoData(db: DataSource, options: { now?: Date } = {})
       clock.set(start)
       const previous = plan.retestOf ? filled.get(plan.retestOf) : undefined
       if (plan.retestOf && !previous?.accepted) throw new Error(`demo run ${plan.id} re-tests ${plan.retestOf}, which is not accepted before it`)
-      const run = await fillRun(services, clock, rng(seed++), plan, {
+      const run = await fillRun(services, clock, rng(stream++), plan, {
         tech: actors.get(plan.technician)!,
         equipment: { id: equipment.id, kind: equipment.kind, designPoint: equipment.designPoint as DesignValues },
         templateId: templates.get(equipment.kind)!,
@@ -187,7 +187,7 @@ export async function loadDemoData(db: DataSource, options: { now?: Date } = {})
       // The owner's representative signs on a later working day, in the morning or early afternoon — or, on the day
       // itself, a while after the performer.
       const acceptDay = workingDay(now, plan.daysAgo, tz, plan.acceptAfterDays)
-      const r = rng(seed * 7)
+      const r = rng(stream * 7)
       const acceptAt = plan.acceptAfterDays === 0
         ? new Date(run.performerSignedAt.getTime() + r.between(30, 80) * 60_000)
         : zonedTime(acceptDay.y, acceptDay.m, acceptDay.d, r.between(9.5, 15.5), tz)

@@ -13,9 +13,9 @@ import { fieldPlaces } from '../../services/run.service'
  * The verdicts are not decided here: the run service judges every entry with the shared rules.
  */
 
-/** A seeded generator (mulberry32), so the demo is the same every time it is loaded. */
-export function rng(seed: number) {
-  let a = seed >>> 0
+/** A deterministic pseudo-random generator (mulberry32), so the demo is the same every time it is loaded. */
+export function rng(start: number) {
+  let a = start >>> 0
   const next = () => {
     a = (a + 0x6d2b79f5) >>> 0
     let t = a

@@ -2,13 +2,13 @@ import sharp from 'sharp'
 import { rng } from './readings'
 
 /**
- * An invented handwritten-looking signature for a demo person: a few joined loops drawn from a seed of the name, with a
+ * An invented handwritten-looking signature for a demo person: a few joined loops drawn from a number derived from the name, with a
  * flourish underneath, rendered by sharp from SVG to a PNG data URL as the signature pad would send it.
  */
 export async function signatureDataUrl(name: string): Promise<string> {
-  let seed = 7
-  for (const ch of name) seed = (Math.imul(seed, 31) + ch.charCodeAt(0)) >>> 0
-  const r = rng(seed)
+  let n = 7
+  for (const ch of name) n = (Math.imul(n, 31) + ch.charCodeAt(0)) >>> 0
+  const r = rng(n)
   const letters = name.replace(/[^A-Za-z]/g, '').length
   const width = 460
   const height = 140
