@@ -1,24 +1,35 @@
+import { execFileSync } from 'node:child_process'
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import request from 'supertest'
+import { ReportQueue } from '../../server/jobs/report-queue'
+import type { ReportRenderer, ReportService } from '../../server/services/report.service'
 import { DEMO_HISTORY, DEMO_PEOPLE, isEmpty, loadDemoData } from '../../server/db/demo-data'
-import { runSnapshot } from '../../server/services/signing.service'
+import { localTime, runSnapshot } from '../../server/services/signing.service'
 import { createTestContext, resetDatabase, type TestContext } from '../helpers/context'
 
 let ctx: TestContext
-let loadMs = 0
 let summary: Awaited<ReturnType<typeof loadDemoData>>
 const loadedAt = new Date()
 
+const certDir = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-demo-certs-'))
+const services = () => ctx.app.locals.services as { reports: ReportService; renderer: ReportRenderer }
+
 beforeAll(async () => {
-  ctx = await createTestContext()
+  ctx = await createTestContext({ CERT_DIR: certDir })
   await resetDatabase(ctx.db)
   expect(await isEmpty(ctx.db)).toBe(true)
   const started = performance.now()
   summary = await loadDemoData(ctx.db, { now: loadedAt })
-  loadMs = performance.now() - started
-  console.log(`demo data loaded in ${(loadMs / 1000).toFixed(1)} s (${summary.runs} runs, ${summary.reports} reports pending)`)
+  console.log(`demo data loaded in ${((performance.now() - started) / 1000).toFixed(1)} s (${summary.runs} runs, ${summary.reports} reports pending)`)
 }, 600_000)
-afterAll(() => ctx.close())
+afterAll(async () => {
+  await services().renderer.close()
+  await ctx.close()
+  fs.rmSync(certDir, { recursive: true, force: true })
+})
 
 const q = <T = Record<string, unknown>>(sql: string, params: unknown[] = []) => ctx.db.query(sql, params) as Promise<T[]>
 
@@ -171,6 +182,39 @@ describe('starter library', () => {
     const [{ n }] = await ctx.db.query(`SELECT count(*)::int AS n FROM checklist_template WHERE organization_id = $1`, [org.id])
     expect(n).toBe(2)
   })
+})
+
+describe('the demo archive at first start', () => {
+  it('when the report queue starts, then every demo report is queued behind anything accepted live, and a rendered one prints the back-dated signatures', async () => {
+    const queue = new ReportQueue(ctx.config.DATABASE_URL, services().reports, { work: false })
+    await queue.start()
+    try {
+      const [{ n }] = await ctx.db.query(`SELECT count(DISTINCT singleton_key)::int AS n FROM pgboss.job WHERE name = 'report-render' AND state = 'created' AND priority = 0`)
+      expect(n).toBe(DEMO_HISTORY.length)
+    } finally {
+      await queue.stop()
+      // Jobs of this database's reports must not reach the queue of a later test file.
+      await ctx.db.query(`DELETE FROM pgboss.job WHERE name = 'report-render'`)
+    }
+
+    // The oldest report of the superseded chiller at the polytechnic (SI, A4): rendered, sealed and ready.
+    const [row] = await ctx.db.query(
+      `SELECT r.id, r.report_number FROM report r JOIN equipment e ON e.id = r.equipment_id WHERE e.tag = 'CH-B4-1' ORDER BY r.accepted_at LIMIT 1`,
+    )
+    const ready = await services().reports.process(row.id)
+    expect(ready.status).toBe('ready')
+    const file = path.join(certDir, 'demo.pdf')
+    fs.writeFileSync(file, await services().reports.pdf(ready))
+    const text = execFileSync('pdftotext', ['-layout', file, '-'], { encoding: 'utf8' })
+    const sigs: { printed_name: string; signed_at: Date; time_zone: string }[] = await ctx.db.query(
+      `SELECT s.printed_name, s.signed_at, s.time_zone FROM signature s JOIN report r ON r.run_id = s.run_id WHERE r.id = $1`, [row.id])
+    expect(text).toContain(row.report_number)
+    for (const s of sigs) {
+      expect(text).toContain(s.printed_name)
+      expect(text).toContain(localTime(s.signed_at, s.time_zone).slice(0, 16))
+    }
+    expect(text).toContain('CH-B4-1')
+  }, 120_000)
 })
 
 describe('loading as one step', () => {
