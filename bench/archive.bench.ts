@@ -7,13 +7,10 @@
 //
 // --try-index measures again after creating candidate indexes in the benchmark database (all of them, or the named
 // ones; see CANDIDATE_INDEXES) and prints before/after. --keep leaves the cluster running until Ctrl-C, for psql.
-import fs from 'node:fs'
-import os from 'node:os'
-import path from 'node:path'
 import type { DataSource } from 'typeorm'
 import { archiveQuerySchema } from '@shared/schemas/archive'
 import type { SessionUser } from '@shared/types/api'
-import { databaseUrl, ensureDatabase, ensurePostgresInstalled, freePort, initCluster, prepareClusterDir, startCluster, stopCluster } from '../server/db/cluster'
+import { startThrowawayCluster } from '../server/db/cluster'
 import { createDataSource } from '../server/db/data-source'
 import { ArchiveService } from '../server/services/archive.service'
 import { fillArchive } from './lib/archive-fill'
@@ -34,7 +31,10 @@ const opts = {
   tryIndex: args.has('try-index') ? (args.get('try-index') === 'true' ? null : args.get('try-index')!.split(',')) : undefined,
 }
 
-/** Indexes to try with --try-index (name → SQL), added in the order named. `recent` and `covering` are the ones that pay. */
+/**
+ * Indexes to try with --try-index (name → SQL), added in the order named. `recent` and `covering` are the ones that paid;
+ * migration 1764673200000-ArchiveQueryIndexes now creates them, so they measure nothing new unless that migration changes.
+ */
 const CANDIDATE_INDEXES: Record<string, string> = {
   // Newest/oldest across many projects: one ordered scan with project_id = ANY(…) as a filter, instead of reading every
   // visible report and sorting. Also serves the keyset condition (accepted_at, id) < (…).
@@ -125,26 +125,11 @@ async function explain(db: DataSource, results: Result[], n: number) {
 }
 
 async function main() {
-  const bin = ensurePostgresInstalled()
-  const root = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-bench-archive-'))
-  fs.chmodSync(root, 0o755)
-  const dataDir = prepareClusterDir(path.join(root, 'pg'))
-  const logFile = path.join(root, 'postgres.log')
-  const port = await freePort()
+  const cluster = await startThrowawayCluster('startproof-bench-archive-', 'startproof_bench')
+  const { url, port, dataDir } = cluster
   let db: DataSource | null = null
-  const cleanup = () => {
-    try {
-      stopCluster(bin, dataDir, 'immediate')
-    } finally {
-      fs.rmSync(root, { recursive: true, force: true })
-    }
-  }
-  process.once('SIGINT', () => { cleanup(); process.exit(130) })
+  process.once('SIGINT', () => { cluster.remove(); process.exit(130) })
   try {
-    initCluster(bin, dataDir)
-    startCluster(bin, { dataDir, port, logFile, throwaway: true })
-    ensureDatabase(bin, port, 'startproof_bench')
-    const url = databaseUrl(port, 'startproof_bench')
     db = createDataSource(url, { poolSize: 2 })
     await db.initialize()
     await db.runMigrations({ transaction: 'each' })
@@ -253,12 +238,12 @@ async function main() {
     }
 
     if (opts.keep) {
-      console.log(`\nCluster kept running: psql ${url} — Ctrl-C stops it and removes ${root}`)
+      console.log(`\nCluster kept running: psql ${url} — Ctrl-C stops it and removes ${dataDir}`)
       await new Promise(() => {})
     }
   } finally {
     await db?.destroy().catch(() => {})
-    cleanup()
+    cluster.remove()
   }
 }
 

@@ -179,3 +179,42 @@ export function portInUse(port: number): Promise<boolean> {
     socket.once('error', () => resolve(false))
   })
 }
+
+export interface ThrowawayCluster {
+  bin: string
+  dataDir: string
+  port: number
+  logFile: string
+  url: string
+  /** Stops the server and removes its folder. */
+  remove(): void
+}
+
+/**
+ * A throwaway cluster in a new temporary folder on a free loopback port, with `database` created in it, for the
+ * tests and the benchmarks. Never for real data (fsync is off).
+ */
+export async function startThrowawayCluster(prefix: string, database: string): Promise<ThrowawayCluster> {
+  const bin = ensurePostgresInstalled()
+  const root = fs.mkdtempSync(path.join(os.tmpdir(), prefix))
+  fs.chmodSync(root, 0o755)
+  const dataDir = prepareClusterDir(path.join(root, 'pg'))
+  const logFile = path.join(root, 'postgres.log')
+  const port = await freePort()
+  const remove = () => {
+    try {
+      stopCluster(bin, dataDir, 'immediate')
+    } finally {
+      fs.rmSync(root, { recursive: true, force: true })
+    }
+  }
+  try {
+    initCluster(bin, dataDir)
+    startCluster(bin, { dataDir, port, logFile, throwaway: true })
+    ensureDatabase(bin, port, database)
+  } catch (err) {
+    remove()
+    throw err
+  }
+  return { bin, dataDir, port, logFile, url: databaseUrl(port, database), remove }
+}
