@@ -69,8 +69,11 @@ export interface DemoLoadSummary {
  * day — the database's freeze triggers (accepted runs, signatures, the append-only audit trail) never have to be
  * bypassed, and the snapshot hashes need no recomputing because time is not part of what is signed. The reports are
  * left pending with their archive columns filled; the report queue renders and seals them when the product starts.
+ *
+ * `history: false` loads only the firm, people, projects, equipment and library: the browser tests start the product
+ * many times and do not need three years of reports rendering behind them.
  */
-export async function loadDemoData(db: DataSource, options: { now?: Date } = {}): Promise<DemoLoadSummary> {
+export async function loadDemoData(db: DataSource, options: { now?: Date; history?: boolean } = {}): Promise<DemoLoadSummary> {
   const now = options.now ?? new Date()
   const ago = (days: number) => new Date(now.getTime() - days * DAY_MS)
   return db.transaction(async (tx) => {
@@ -129,6 +132,8 @@ export async function loadDemoData(db: DataSource, options: { now?: Date } = {})
       const rep = members.find((email) => DEMO_PEOPLE.find((p) => p.email === email)?.role === 'owner_rep')!
       projects.set(project.code, { row: project, equipment: items, rep, attendees: DEMO_ATTENDEES[project.code] ?? '' })
     }
+
+    if (options.history === false) return { runs: 0, reports: 0 }
 
     // The history as one timeline: each run is filled on its day, and every acceptance (and the one deactivation)
     // that falls before the next run's start happens first, so report numbers follow the acceptance dates.

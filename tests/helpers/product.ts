@@ -18,7 +18,7 @@ export interface RunningProduct {
  * The real product for a browser test: a database of its own on the test cluster with the demo data, the server
  * on a free loopback port serving the client built by the global setup, and Debian's Chromium.
  */
-export async function startProduct(database: string): Promise<RunningProduct> {
+export async function startProduct(database: string, options: { history?: boolean } = {}): Promise<RunningProduct> {
   const pg = inject('pg')
   ensureDatabase(pg.bin, pg.port, database)
   const url = databaseUrl(pg.port, database)
@@ -26,10 +26,11 @@ export async function startProduct(database: string): Promise<RunningProduct> {
   await db.initialize()
   await db.runMigrations({ transaction: 'each' })
   await db.query(
-    `TRUNCATE report, outbound_mail, signature, run_attachment, finding, run_change, run_step, reading, run, template_version, checklist_template, equipment, attachment, project_member, project, app_user, organization, session, rate_limit CASCADE`,
+    `TRUNCATE closeout_document, report, outbound_mail, signature, run_attachment, finding, run_change, run_step, reading, run, template_version, checklist_template, equipment, attachment, project_member, project, app_user, organization, session, rate_limit CASCADE`,
   )
   await db.query(`TRUNCATE audit_event`)
-  await loadDemoData(db)
+  // Without the three years of demo history unless asked: it takes a minute to load and its reports would render behind the test.
+  await loadDemoData(db, { history: options.history ?? false })
   await db.destroy()
 
   const port = await freePort()
