@@ -64,11 +64,12 @@ export class VerifyService {
   constructor(private readonly db: DataSource) {}
 
   private async successor(row: ReportRow): Promise<ReportRow | null> {
-    const [newer] = (await this.db.query(`${FACTS_SQL} AND run.equipment_id = $1 AND v.template_id = $2 AND r.ready_at > $3 ORDER BY r.ready_at DESC LIMIT 1`, [
-      row.equipment_id,
-      row.template_id,
-      row.ready_at,
-    ])) as ReportRow[]
+    // By acceptance, as the archive orders them: reports are rendered in queue order, which need not be the order of acceptance.
+    const [newer] = (await this.db.query(
+      `${FACTS_SQL} AND run.equipment_id = $1 AND v.template_id = $2
+         AND r.accepted_at > (SELECT o.accepted_at FROM report o WHERE o.id = $3) ORDER BY r.accepted_at DESC LIMIT 1`,
+      [row.equipment_id, row.template_id, row.id],
+    )) as ReportRow[]
     return newer ?? null
   }
 

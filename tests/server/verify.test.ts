@@ -35,6 +35,27 @@ async function acceptAndIssue(s: Scenario, runId: string): Promise<{ pdf: Buffer
 const check = (file: Buffer, name = 'report.pdf') => request(ctx.app).post('/api/verify').attach('file', file, { filename: name, contentType: 'application/pdf' })
 
 describe('/api/verify (public)', () => {
+  it('when a re-test is rendered before the report it supersedes, then the older one is still the superseded one', async () => {
+    const s = await readyRun(ctx)
+    expect((await sign(s.techAgent, s.run.id, 'performed_by')).status).toBe(201)
+    expect((await sign(s.repAgent, s.run.id, 'accepted_by')).status).toBe(201)
+    const older = (await s.repAgent.get(`/api/runs/${s.run.id}/report`)).body.report
+    const retest = (await s.techAgent.post(`/api/equipment/${s.equipment.id}/runs`).send({ templateId: s.template.id }).expect(201)).body.run
+    await makeSignable(s.techAgent, retest)
+    expect((await sign(s.techAgent, retest.id, 'performed_by')).status).toBe(201)
+    expect((await sign(s.repAgent, retest.id, 'accepted_by')).status).toBe(201)
+    const newer = (await s.repAgent.get(`/api/runs/${retest.id}/report`)).body.report
+    // The queue renders the re-test first (as after a restart with a backlog).
+    await services().reports.process(newer.id)
+    await services().reports.process(older.id)
+    const answerOlder = (await request(ctx.app).get(`/api/verify/${older.reportNumber}`).expect(200)).body.answer
+    expect(answerOlder).toMatchObject({ outcome: 'genuine_superseded', supersededBy: { reportNumber: newer.reportNumber } })
+    expect((await request(ctx.app).get(`/api/verify/${newer.reportNumber}`).expect(200)).body.answer.outcome).toBe('genuine_current')
+    const archive = (await s.repAgent.get('/api/archive').expect(200)).body.items as { reportNumber: string; supersededBy: string | null }[]
+    expect(archive.find((i) => i.reportNumber === older.reportNumber)?.supersededBy).toBe(newer.reportNumber)
+    expect(archive.find((i) => i.reportNumber === newer.reportNumber)?.supersededBy).toBeNull()
+  }, 120_000)
+
   it('when the archived PDF is uploaded, then it is genuine and current; one flipped byte makes it altered; a re-test supersedes it', async () => {
     const s = await readyRun(ctx)
     const first = await acceptAndIssue(s, s.run.id)
