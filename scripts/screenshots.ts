@@ -201,14 +201,18 @@ try {
   const shootArchive = async () => {
     for (const size of [{ width, height, suffix: '' }, { width: 768, height: 1024, suffix: '-768' }]) {
       const { page, context } = await session('contractor', undefined, size)
+      // A project and chiller with a re-test, so the filtered list shows a superseded report beside its successor.
       const ids = await page.evaluate(async () => {
+        const { items } = await (await fetch('/api/archive?limit=100')).json()
+        const superseded = items.find((i: { supersededBy: string | null }) => i.supersededBy)
+        if (superseded) return { project: superseded.projectId as string, ch2: superseded.equipmentId as string }
         const facets = await (await fetch('/api/archive/facets')).json()
         const project = facets.projects.find((p: { code: string }) => p.code === 'VXH-CUP')
         const ch2 = facets.equipment.find((e: { tag: string; projectId: string }) => e.tag === 'CH-2' && e.projectId === project.id)
         return { project: project.id as string, ch2: (ch2?.id ?? '') as string }
       })
       await page.goto(`${base}/archive`, { waitUntil: 'networkidle0' })
-      await page.screenshot({ path: path.join(out, `contractor-archive${size.suffix}.png`), fullPage: true })
+      await page.screenshot({ path: path.join(out, `contractor-archive${size.suffix}.png`) })
       // Filtered to one project and one chiller: the superseded report shows its tag linking to the re-test.
       await page.goto(`${base}/archive?project=${ids.project}${ids.ch2 ? `&equipment=${ids.ch2}` : ''}`, { waitUntil: 'networkidle0' })
       await page.waitForSelector('[data-test=archive-item]')
