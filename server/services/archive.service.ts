@@ -61,8 +61,17 @@ export class ArchiveService {
     if (q.equipmentId) add('r.equipment_id = ?', q.equipmentId)
     if (q.templateId) add('r.template_id = ?', q.templateId)
     if (q.technicianId) add('r.technician_id = ?', q.technicianId)
-    if (q.from) add(`r.accepted_at >= ?::date`, q.from)
-    if (q.to) add(`r.accepted_at < (?::date + 1)`, q.to)
+    // Days are the site's days (the project's time zone), as the page shows them. The wide bound (every zone is within
+    // UTC−12…UTC+14) lets the index narrow the range; the exact test then looks at the local date.
+    const localDay = `((r.accepted_at AT TIME ZONE (SELECT tz.time_zone FROM project tz WHERE tz.id = r.project_id))::date)`
+    if (q.from) {
+      add(`r.accepted_at >= (?::date - interval '14 hours')`, q.from)
+      add(`${localDay} >= ?::date`, q.from)
+    }
+    if (q.to) {
+      add(`r.accepted_at < (?::date + interval '1 day 12 hours')`, q.to)
+      add(`${localDay} <= ?::date`, q.to)
+    }
     if (q.hasFails !== undefined) where.push(q.hasFails ? 'r.fail_count > 0' : 'r.fail_count = 0')
     if (q.hasOpenFindings !== undefined) where.push(q.hasOpenFindings ? 'r.open_finding_count > 0' : 'r.open_finding_count = 0')
     if (q.q) {
@@ -151,6 +160,7 @@ export class ArchiveService {
   private select(where: string, params: unknown[], orderBy: string, limit = ''): Promise<Record<string, unknown>[]> {
     return this.db.query(
       `SELECT r.report_number, r.run_id, r.project_id, p.code AS project_code, p.name AS project_name, p.closed_at IS NOT NULL AS project_closed,
+              p.time_zone,
               r.equipment_id, e.tag, e.kind, e.serial_number, r.template_id, t.name AS template_name, v.number AS template_version,
               r.technician_id, u.display_name AS technician_name, r.accepted_at, r.fail_count, r.marginal_count, r.open_finding_count,
               r.sha256, r.size_bytes, r.storage_key, r.id,
@@ -179,6 +189,7 @@ function toItem(r: Record<string, unknown>): ArchiveItem {
     projectCode: r.project_code as string,
     projectName: r.project_name as string,
     projectClosed: r.project_closed as boolean,
+    projectTimeZone: r.time_zone as string,
     equipmentId: r.equipment_id as string,
     equipmentTag: r.tag as string,
     equipmentKind: r.kind as string,

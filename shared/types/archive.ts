@@ -9,6 +9,8 @@ export interface ArchiveItem {
   projectName: string
   /** The project was closed; its reports stay readable (retention). */
   projectClosed: boolean
+  /** IANA zone of the site: acceptance times are shown, and date filters work, in it. */
+  projectTimeZone: string
   equipmentId: string
   equipmentTag: string
   equipmentKind: string

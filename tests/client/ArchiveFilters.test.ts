@@ -68,6 +68,7 @@ const item = (n: number, over: Partial<ArchiveItem> = {}): ArchiveItem => ({
   projectCode: 'HSP-1',
   projectName: 'Test hospital plant',
   projectClosed: false,
+  projectTimeZone: 'America/Chicago',
   equipmentId: CH2,
   equipmentTag: 'CH-2',
   equipmentKind: 'centrifugal_chiller',
@@ -150,6 +151,8 @@ describe('archive filters and the URL query', () => {
     expect(wrapper.find('[data-test=archive-total]').text()).toBe('3 reports match')
     expect((wrapper.find('input[data-test=archive-search]').element as HTMLInputElement).value).toBe('oil')
     expect(wrapper.findAll('[data-test=archive-item]')).toHaveLength(3)
+    // Accepted 15:30 UTC is shown as the site's time, zone named.
+    expect(wrapper.text()).toContain('Nov 20, 2026, 9:30 AM CST')
     // The chosen project's closeout documents are listed with its reports.
     expect(api.list).toHaveBeenCalledWith(HOSPITAL)
     expect(wrapper.find('[data-test=archive-closeout]').exists()).toBe(true)

@@ -46,8 +46,18 @@ describe('/api/archive', () => {
     expect((await s.repAgent.get('/api/archive?q=calibrated')).body.items.map((i: { reportNumber: string }) => i.reportNumber)).toEqual([first])
     expect((await s.repAgent.get('/api/archive?q=TW-7')).body.total).toBe(2)
     expect((await s.repAgent.get(`/api/archive?equipmentId=${s.equipment.id}&sort=oldest`)).body.items[0].reportNumber).toBe(first)
-    const today = new Date().toISOString().slice(0, 10)
+    // Days are the site's days: the project is in America/Chicago, so "today" is Chicago's date, whatever UTC says.
+    const dayIn = (zone: string, shiftDays = 0) => new Intl.DateTimeFormat('en-CA', { timeZone: zone }).format(new Date(Date.now() + shiftDays * 86_400_000))
+    const today = dayIn('America/Chicago')
     expect((await s.repAgent.get(`/api/archive?from=${today}&to=${today}`)).body.total).toBe(2)
+    expect((await s.repAgent.get(`/api/archive?to=${dayIn('America/Chicago', -1)}`)).body.total).toBe(0)
+    expect((await s.repAgent.get(`/api/archive?from=${dayIn('America/Chicago', 1)}`)).body.total).toBe(0)
+    // Moved to a site 14 hours ahead of UTC, the same reports fall on that site's date.
+    await ctx.db.query(`UPDATE project SET time_zone = 'Pacific/Kiritimati' WHERE id = $1`, [s.project.id])
+    const there = dayIn('Pacific/Kiritimati')
+    expect((await s.repAgent.get(`/api/archive?from=${there}&to=${there}`)).body.total).toBe(2)
+    if (there !== today) expect((await s.repAgent.get(`/api/archive?from=${today}&to=${today}`)).body.total).toBe(0)
+    expect((await s.repAgent.get('/api/archive')).body.items[0].projectTimeZone).toBe('Pacific/Kiritimati')
     expect((await s.repAgent.get('/api/archive?to=2000-01-01')).body.total).toBe(0)
 
     const page1 = (await s.repAgent.get('/api/archive?limit=1')).body
