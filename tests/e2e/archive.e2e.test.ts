@@ -4,9 +4,9 @@ import os from 'node:os'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Page } from 'puppeteer-core'
-import yauzl from 'yauzl'
 import type { ArchiveItem, ArchivePage } from '@shared/types/archive'
 import { demoPerson, signIn, startProduct, type RunningProduct } from '../helpers/product'
+import { unzip } from '../helpers/zip'
 
 let product: RunningProduct
 let downloads: string
@@ -48,30 +48,6 @@ async function downloaded(folder: string, timeout = 60_000): Promise<{ name: str
     await new Promise((r) => setTimeout(r, 100))
   }
   throw new Error(`no download arrived in ${folder} within ${timeout} ms`)
-}
-
-/** Every entry of a ZIP by name, read with yauzl. */
-function unzip(data: Buffer): Promise<Map<string, Buffer>> {
-  return new Promise((resolve, reject) => {
-    yauzl.fromBuffer(data, { lazyEntries: true, validateEntrySizes: true }, (err, zip) => {
-      if (err || !zip) return reject(err)
-      const out = new Map<string, Buffer>()
-      zip.on('entry', (entry: yauzl.Entry) => {
-        zip.openReadStream(entry, (e, stream) => {
-          if (e || !stream) return reject(e)
-          const chunks: Buffer[] = []
-          stream.on('data', (c: Buffer) => chunks.push(c))
-          stream.on('end', () => {
-            out.set(entry.fileName, Buffer.concat(chunks))
-            zip.readEntry()
-          })
-        })
-      })
-      zip.on('end', () => resolve(out))
-      zip.on('error', reject)
-      zip.readEntry()
-    })
-  })
 }
 
 /**

@@ -49,3 +49,18 @@ export const snapshotOf = async (agent: request.Agent, runId: string) => (await 
 /** Signs a run with the test password, the test drawing and the snapshot the review shows now. */
 export const sign = async (agent: request.Agent, runId: string, meaning: string, extra: Record<string, unknown> = {}) =>
   agent.post(`/api/runs/${runId}/sign`).send({ meaning, password: TEST_PASSWORD, signatureImage: SIGNATURE, snapshotSha256: await snapshotOf(agent, runId), ...extra })
+
+/** Performer and acceptance signatures, then the report job run here and now; returns the report number. */
+export async function issueReport(
+  s: { techAgent: request.Agent; repAgent: request.Agent },
+  runId: string,
+  reports: { process(reportId: string): Promise<unknown> },
+): Promise<string> {
+  const performed = await sign(s.techAgent, runId, 'performed_by')
+  if (performed.status !== 201) throw new Error(`performer signature refused: ${performed.status} ${JSON.stringify(performed.body)}`)
+  const accepted = await sign(s.repAgent, runId, 'accepted_by')
+  if (accepted.status !== 201) throw new Error(`acceptance refused: ${accepted.status} ${JSON.stringify(accepted.body)}`)
+  const pending = (await s.repAgent.get(`/api/runs/${runId}/report`)).body.report
+  await reports.process(pending.id)
+  return pending.reportNumber as string
+}

@@ -2,7 +2,7 @@ import { randomUUID } from 'node:crypto'
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
 import type { ReportRenderer, ReportService } from '../../server/services/report.service'
 import { createTestContext, makeUser, resetDatabase, signedInAgent, type TestContext } from '../helpers/context'
-import { makeSignable, readyRun, sign } from '../helpers/runs'
+import { issueReport, makeSignable, readyRun } from '../helpers/runs'
 
 let ctx: TestContext
 const services = () => ctx.app.locals.services as { reports: ReportService; renderer: ReportRenderer }
@@ -18,13 +18,7 @@ beforeEach(() => resetDatabase(ctx.db))
 
 type Scenario = Awaited<ReturnType<typeof readyRun>>
 
-async function issue(s: Scenario, runId: string) {
-  expect((await sign(s.techAgent, runId, 'performed_by')).status).toBe(201)
-  expect((await sign(s.repAgent, runId, 'accepted_by')).status).toBe(201)
-  const pending = (await s.repAgent.get(`/api/runs/${runId}/report`)).body.report
-  await services().reports.process(pending.id)
-  return pending.reportNumber as string
-}
+const issue = (s: Scenario, runId: string) => issueReport(s, runId, services().reports)
 
 describe('/api/archive', () => {
   it('when two reports of one chiller exist, then filters, text search, pages and the superseded link all work', async () => {

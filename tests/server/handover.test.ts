@@ -1,12 +1,12 @@
 import { createHash, randomUUID } from 'node:crypto'
 import fs from 'node:fs'
 import path from 'node:path'
-import yauzl from 'yauzl'
 import { parse } from 'csv-parse/sync'
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
 import type { ReportRenderer, ReportService } from '../../server/services/report.service'
 import { createTestContext, makeUser, resetDatabase, signedInAgent, type TestContext } from '../helpers/context'
-import { makeSignable, readyRun, sign } from '../helpers/runs'
+import { issueReport, makeSignable, readyRun } from '../helpers/runs'
+import { binary, unzip } from '../helpers/zip'
 
 let ctx: TestContext
 const services = () => ctx.app.locals.services as { reports: ReportService; renderer: ReportRenderer }
@@ -27,43 +27,7 @@ const PDF = Buffer.from('%PDF-1.4\n1 0 obj << /Type /Catalog >> endobj\ntrailer 
 
 type Scenario = Awaited<ReturnType<typeof readyRun>>
 
-async function issue(s: Scenario, runId: string) {
-  expect((await sign(s.techAgent, runId, 'performed_by')).status).toBe(201)
-  expect((await sign(s.repAgent, runId, 'accepted_by')).status).toBe(201)
-  const pending = (await s.repAgent.get(`/api/runs/${runId}/report`)).body.report
-  await services().reports.process(pending.id)
-  return pending.reportNumber as string
-}
-
-/** Every entry of a ZIP, by name, read with yauzl (an unzip library independent of the one that wrote it). */
-function unzip(data: Buffer): Promise<Map<string, Buffer>> {
-  return new Promise((resolve, reject) => {
-    yauzl.fromBuffer(data, { lazyEntries: true, validateEntrySizes: true }, (err, zip) => {
-      if (err || !zip) return reject(err)
-      const out = new Map<string, Buffer>()
-      zip.on('entry', (entry: yauzl.Entry) => {
-        zip.openReadStream(entry, (e, stream) => {
-          if (e || !stream) return reject(e)
-          const chunks: Buffer[] = []
-          stream.on('data', (c: Buffer) => chunks.push(c))
-          stream.on('end', () => {
-            out.set(entry.fileName, Buffer.concat(chunks))
-            zip.readEntry()
-          })
-        })
-      })
-      zip.on('end', () => resolve(out))
-      zip.on('error', reject)
-      zip.readEntry()
-    })
-  })
-}
-
-const binary = (res: { on: (e: string, cb: (c?: Buffer) => void) => void; setEncoding?: unknown }, cb: (err: Error | null, body: Buffer) => void) => {
-  const chunks: Buffer[] = []
-  res.on('data', (c) => chunks.push(c!))
-  res.on('end', () => cb(null, Buffer.concat(chunks)))
-}
+const issue = (s: Scenario, runId: string) => issueReport(s, runId, services().reports)
 
 /** A scenario with a contractor on the project, a photo on the run, one accepted report and a re-test that supersedes it. */
 async function twoReports() {

@@ -3,7 +3,8 @@ import request from 'supertest'
 import { PDFDocument } from 'pdf-lib'
 import type { ReportRenderer, ReportService } from '../../server/services/report.service'
 import { createTestContext, resetDatabase, type TestContext } from '../helpers/context'
-import { makeSignable, readyRun, sign } from '../helpers/runs'
+import { issueReport, makeSignable, readyRun, sign } from '../helpers/runs'
+import { binary } from '../helpers/zip'
 
 let ctx: TestContext
 const services = () => ctx.app.locals.services as { reports: ReportService; renderer: ReportRenderer }
@@ -20,16 +21,9 @@ beforeEach(() => resetDatabase(ctx.db))
 type Scenario = Awaited<ReturnType<typeof readyRun>>
 
 async function acceptAndIssue(s: Scenario, runId: string): Promise<{ pdf: Buffer; reportNumber: string }> {
-  expect((await sign(s.techAgent, runId, 'performed_by')).status).toBe(201)
-  expect((await sign(s.repAgent, runId, 'accepted_by')).status).toBe(201)
-  const pending = (await s.repAgent.get(`/api/runs/${runId}/report`)).body.report
-  await services().reports.process(pending.id)
-  const res = await s.repAgent.get(`/api/runs/${runId}/report.pdf`).buffer(true).parse((r, cb) => {
-    const chunks: Buffer[] = []
-    r.on('data', (c: Buffer) => chunks.push(c))
-    r.on('end', () => cb(null, Buffer.concat(chunks)))
-  })
-  return { pdf: res.body as Buffer, reportNumber: pending.reportNumber }
+  const reportNumber = await issueReport(s, runId, services().reports)
+  const res = await s.repAgent.get(`/api/runs/${runId}/report.pdf`).buffer(true).parse(binary)
+  return { pdf: res.body as Buffer, reportNumber }
 }
 
 const check = (file: Buffer, name = 'report.pdf') => request(ctx.app).post('/api/verify').attach('file', file, { filename: name, contentType: 'application/pdf' })
