@@ -55,7 +55,7 @@ describe('signing in through the browser', { timeout: 60_000 }, () => {
     await signIn(page, tech.email, tech.password)
     await page.waitForSelector('[data-test=project-list]')
     expect(new URL(page.url()).pathname).toBe('/')
-    expect(await navLabels(page)).toEqual(['Today', 'Projects', 'Verify'])
+    expect(await navLabels(page)).toEqual(['Today', 'Projects', 'Archive', 'Verify'])
     expect(await page.evaluate(() => document.body.innerText)).toContain('Before any start-up')
 
     await page.goto(`${base}/people`, { waitUntil: 'networkidle0' })
@@ -69,7 +69,7 @@ describe('signing in through the browser', { timeout: 60_000 }, () => {
     await signIn(page, p.email, p.password)
     await page.waitForSelector('[data-test=project-card]')
     expect(new URL(page.url()).pathname).toBe('/projects')
-    expect(await navLabels(page)).toEqual(['Projects', 'Verify'])
+    expect(await navLabels(page)).toEqual(['Projects', 'Archive', 'Verify'])
     await page.browserContext().close()
   })
 
@@ -78,7 +78,7 @@ describe('signing in through the browser', { timeout: 60_000 }, () => {
     const admin = person('admin')
     await signIn(page, admin.email, admin.password)
     await page.waitForSelector('[data-test=project-list]')
-    expect(await navLabels(page)).toEqual(['Projects', 'Templates', 'People', 'Outbox', 'Verify'])
+    expect(await navLabels(page)).toEqual(['Projects', 'Archive', 'Templates', 'People', 'Outbox', 'Verify'])
 
     await page.goto(`${base}/people`, { waitUntil: 'networkidle0' })
     await page.waitForSelector('[data-test=people-table]')
