@@ -32,7 +32,8 @@ export async function startServer(config: Config): Promise<RunningServer> {
   mail.startWorker()
   const seal = await services.renderer.prepare()
   console.log(`Reports are sealed with "${seal.commonName}" (SHA-256 ${seal.fingerprintSha256.slice(0, 16)}…${seal.created ? ', created now' : ''}${seal.selfSigned ? ', self-signed' : ''})`)
-  const queue = new ReportQueue(config.DATABASE_URL, services.reports)
+  // Two documents at a time per pooled browser (see server/reports/browser-pool.ts).
+  const queue = new ReportQueue(config.DATABASE_URL, services.reports, { concurrency: config.REPORT_BROWSERS * 2 })
   await queue.start()
   const server = await new Promise<Server>((resolve, reject) => {
     const s = app.listen(config.PORT, config.HOST, () => resolve(s))

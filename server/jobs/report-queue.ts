@@ -5,7 +5,7 @@ const QUEUE = 'report-render'
 
 /**
  * Report rendering as a job queue in PostgreSQL (pg-boss): any number of app servers enqueue, any number of workers
- * take jobs, each worker renders one at a time with its own small browser pool, and a job that fails is retried.
+ * take jobs, each worker renders `concurrency` at a time with its own small browser pool, and a job that fails is retried.
  */
 export class ReportQueue {
   private boss: PgBoss | null = null
@@ -27,9 +27,12 @@ export class ReportQueue {
       await boss.send(QUEUE, { reportId }, { singletonKey: reportId, priority: 1 })
     }
     if (this.options.work !== false) {
-      await boss.work<{ reportId: string }>(QUEUE, { batchSize: 1, pollingIntervalSeconds: 1 }, async ([job]) => {
-        await this.reports.process(job.data.reportId)
-      })
+      // pg-boss 10 runs one job at a time per `work()` call; one call per page the browser pool can render at once.
+      for (let i = 0; i < Math.max(1, this.options.concurrency ?? 1); i++) {
+        await boss.work<{ reportId: string }>(QUEUE, { batchSize: 1, pollingIntervalSeconds: 1 }, async ([job]) => {
+          await this.reports.process(job.data.reportId)
+        })
+      }
     }
     // Reports accepted while no queue ran (or whose job was lost) are picked up now.
     for (const id of await this.reports.pendingIds()) await boss.send(QUEUE, { reportId: id }, { singletonKey: id, priority: 0 })
