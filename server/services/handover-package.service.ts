@@ -317,8 +317,8 @@ function readme(plan: PackagePlan, generatedAt: Date, publicUrl: string): string
   return `STARTPROOF HANDOVER PACKAGE
 ${HANDOVER_PACKAGE_FORMAT} version ${HANDOVER_PACKAGE_VERSION}
 
-This package holds ${scope}: ${plan.items.length} sealed start-up report${plan.items.length === 1 ? '' : 's'} and
-${plan.documents.length} closeout document${plan.documents.length === 1 ? '' : 's'}.
+This package holds ${scope}.
+It has ${plan.items.length} sealed start-up report${plan.items.length === 1 ? '' : 's'} and ${plan.documents.length} closeout document${plan.documents.length === 1 ? '' : 's'}.
 Made ${generatedAt.toISOString()} (UTC) by ${plan.user.displayName}.
 
 THE SEALED PDF IS THE RECORD. Everything else here is a copy of the same data in forms a program can read.
