@@ -9,6 +9,7 @@ import type { ArchiveExportInput } from '@shared/schemas/archive'
 import type { SessionUser } from '@shared/types/api'
 import { CLOSEOUT_CATEGORY_LABELS, HANDOVER_PACKAGE_FORMAT, HANDOVER_PACKAGE_VERSION, type ArchiveItem } from '@shared/types/archive'
 import type { RunDetail } from '@shared/types/run'
+import { kindLabel, unitLabel, type QuantityKind } from '@shared/units'
 import { Organization, Project, RunAttachment, type CloseoutDocument } from '../entities'
 import type { StorageService } from '../storage/storage'
 import type { ArchiveService } from './archive.service'
@@ -29,7 +30,7 @@ export const CSV_COLUMNS = {
     'pdf_path', 'pdf_sha256', 'pdf_size_bytes', 'run_folder',
   ],
   readings: [
-    'section_id', 'section_title', 'step_id', 'step_title', 'field_id', 'field_label', 'field_kind', 'required', 'value', 'unit',
+    'section_id', 'section_title', 'step_id', 'step_title', 'field_id', 'field_label', 'field_kind', 'quantity', 'required', 'value', 'unit',
     'value_si', 'unit_si', 'answer', 'verdict', 'message', 'not_applicable', 'na_reason', 'justification', 'entered_by', 'entered_at_utc',
   ],
   steps: ['section_id', 'section_title', 'step_id', 'step_title', 'not_applicable', 'na_reason', 'note', 'updated_by', 'updated_at_utc'],
@@ -249,6 +250,9 @@ function runRows(run: RunDetail): { reading: Row[]; steps: Row[] } {
         const r = run.readings[field.id]
         const e = r?.evaluation
         const answer = e?.answer
+        // A field of a step marked not applicable is not applicable too, for the step's reason (as the report counts it).
+        const notApplicable = Boolean(r?.notApplicable || s?.notApplicable)
+        const entered = r?.entry && typeof r.entry.value === 'number' && 'unit' in r.entry ? { value: r.entry.value, unit: String(r.entry.unit) } : null
         reading.push({
           section_id: section.id,
           section_title: section.title,
@@ -257,16 +261,18 @@ function runRows(run: RunDetail): { reading: Row[]; steps: Row[] } {
           field_id: field.id,
           field_label: field.label,
           field_kind: field.kind,
+          quantity: field.quantity ? kindLabel(field.quantity) : undefined,
           required: e?.required ?? false,
-          value: e?.display?.value,
-          unit: e?.display?.unit,
-          value_si: e?.canonical?.value,
-          unit_si: e?.canonical?.unit,
-          answer: Array.isArray(answer) ? answer.join('; ') : answer,
-          verdict: e?.verdict,
-          message: e?.message,
-          not_applicable: r?.notApplicable ?? false,
-          na_reason: r?.naReason,
+          // As entered; a computed value is rounded to six significant digits (the report prints fewer).
+          value: entered?.value ?? (e?.display ? Number(e.display.value.toPrecision(6)) : undefined),
+          unit: symbol(field.quantity, entered?.unit ?? e?.display?.unit),
+          value_si: e?.canonical ? Number(e.canonical.value.toPrecision(12)) : undefined,
+          unit_si: symbol(field.quantity, e?.canonical?.unit),
+          answer: typeof answer === 'boolean' ? (answer ? 'yes' : 'no') : Array.isArray(answer) ? answer.join('; ') : answer,
+          verdict: notApplicable ? 'not_applicable' : e?.verdict,
+          message: notApplicable ? undefined : e?.message,
+          not_applicable: notApplicable,
+          na_reason: r?.naReason ?? (s?.notApplicable ? s.naReason : undefined),
           justification: r?.justification,
           entered_by: r?.updatedByName,
           entered_at_utc: r?.updatedAt,
@@ -275,6 +281,16 @@ function runRows(run: RunDetail): { reading: Row[]; steps: Row[] } {
     }
   }
   return { reading, steps }
+}
+
+/** The unit's symbol as the product shows it ("psid", "°F", "kPa (gauge)"); the id itself when it is not a known unit. */
+function symbol(kind: QuantityKind | undefined, unit: string | undefined): string | undefined {
+  if (!unit) return undefined
+  try {
+    return kind ? unitLabel(kind, unit) : unit
+  } catch {
+    return unit
+  }
 }
 
 function findingRows(run: RunDetail, attachmentPaths: Map<string, string>): Row[] {
@@ -350,9 +366,12 @@ one header row. Times end in _utc and are ISO 8601 in UTC; the project's time zo
 signatures.csv. Booleans are true/false. Empty means no value.
   reports.csv:    ${cols('reports')}
   readings.csv:   ${cols('readings')}
-                  value/unit are in the project's units as shown in the report; value_si/unit_si are the same
-                  value in SI as stored; answer holds yes/no, choice and text answers; verdict is pass, marginal,
-                  fail or incomplete (a field marked not applicable has not_applicable true).
+                  quantity names what is measured (e.g. differential pressure); value/unit are as entered (a
+                  computed value rounded to six significant digits), unit written as the report writes it (°F,
+                  psid, kPa (gauge), tons); value_si/unit_si are the same value in SI as stored (K, Pa, m³/s, W);
+                  answer holds yes/no, choice and text answers; verdict is pass, marginal, fail, incomplete or
+                  not_applicable (then not_applicable is true and na_reason says why, the step's reason when the
+                  whole step was not applicable).
   steps.csv:      ${cols('steps')}
   findings.csv:   ${cols('findings')}
                   files lists the paths of the finding's photos inside this package, separated by "; ".

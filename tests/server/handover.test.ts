@@ -163,6 +163,11 @@ describe('handover package', () => {
     const readings = rows(`runs/${s.first}/readings.csv`)
     expect(readings.find((r) => r.field_id === 'oilPressureRunning')).toMatchObject({ value: '36', unit: 'psid', verdict: 'pass', not_applicable: 'false' })
     expect(Number(readings.find((r) => r.field_id === 'oilPressureRunning')!.value_si)).toBeCloseTo(36 * 6894.757, 0)
+    expect(readings.find((r) => r.field_id === 'oilTempRunning')).toMatchObject({ value: '125', unit: '°F', unit_si: 'K', quantity: 'temperature' })
+    // Fields of a step marked not applicable are not applicable, with the step's reason, as the report counts them.
+    const skipped = readings.filter((r) => r.step_id !== 'oil-running')
+    expect(skipped.length).toBeGreaterThan(20)
+    for (const r of skipped) expect(r, r.field_id).toMatchObject({ not_applicable: 'true', verdict: 'not_applicable', na_reason: 'Covered by the factory test record' })
     const findings = rows(`runs/${s.first}/findings.csv`)
     expect(findings).toEqual([expect.objectContaining({ severity: 'minor', status: 'open', description: 'Oil sight glass label faded' })])
     const signatures = rows(`runs/${s.first}/signatures.csv`)
