@@ -8,7 +8,7 @@ import { validate } from '../middleware/validate'
 import type { VerifyService } from '../services/verify.service'
 
 const MAX_MB = 40
-const numberParams = yup.object({ reportNumber: yup.string().required().matches(/^SP-\d{4}-\d{6}$/, 'reportNumber must look like SP-2026-000123') })
+const numberParams = yup.object({ reportNumber: yup.string().trim().uppercase().required().matches(/^SP-\d{4}-\d{6}$/, 'reportNumber must look like SP-2026-000123') })
 
 /** `/api/verify`: public (no sign-in) — anyone holding a PDF or a QR code link can check it. */
 export function verifyRoutes(verify: VerifyService, store: PostgresRateLimitStore): Router {

@@ -2,28 +2,10 @@ import { createHash } from 'node:crypto'
 import type { DataSource } from 'typeorm'
 import { verifySealedPdf, type SealVerification } from '../reports'
 import { AppError } from '../errors/app-error'
+import { localTime } from './signing.service'
+import type { PublicReportFacts, VerifyAnswer, VerifyOutcome } from '@shared/types/verify'
 
-export type VerifyOutcome = 'genuine_current' | 'genuine_superseded' | 'altered' | 'unknown'
-
-/** What anyone may learn about a report: DESIGN.md keeps everything else to people with access. */
-export interface PublicReportFacts {
-  reportNumber: string
-  equipmentTag: string
-  projectName: string
-  acceptedAt: string | null
-  verdict: 'pass' | 'marginal' | 'fail'
-}
-
-export interface VerifyAnswer {
-  outcome: VerifyOutcome
-  /** One plain sentence for the page's headline. */
-  headline: string
-  reasons: string[]
-  report: PublicReportFacts | null
-  /** The newer report of the same equipment and checklist, when this one was superseded. */
-  supersededBy: PublicReportFacts | null
-  sha256: string | null
-}
+export type { PublicReportFacts, VerifyAnswer, VerifyOutcome }
 
 const REPORT_NUMBER = /SP-\d{4}-\d{6}/
 
@@ -34,6 +16,7 @@ interface ReportRow {
   template_id: string
   tag: string
   project_name: string
+  time_zone: string
   accepted_at: Date | null
   fails: number
   marginals: number
@@ -41,7 +24,7 @@ interface ReportRow {
 }
 
 const FACTS_SQL = `
-  SELECT r.id, r.report_number, run.equipment_id, v.template_id, e.tag, p.name AS project_name, r.ready_at,
+  SELECT r.id, r.report_number, run.equipment_id, v.template_id, e.tag, p.name AS project_name, p.time_zone, r.ready_at,
          (SELECT max(s.signed_at) FROM signature s WHERE s.run_id = run.id AND s.meaning = 'accepted_by' AND NOT s.voided) AS accepted_at,
          (SELECT count(*)::int FROM reading x WHERE x.run_id = run.id AND x.verdict = 'fail' AND NOT x.not_applicable) AS fails,
          (SELECT count(*)::int FROM reading x WHERE x.run_id = run.id AND x.verdict = 'marginal' AND NOT x.not_applicable) AS marginals
@@ -55,6 +38,7 @@ function facts(row: ReportRow): PublicReportFacts {
     equipmentTag: row.tag,
     projectName: row.project_name,
     acceptedAt: row.accepted_at ? new Date(row.accepted_at).toISOString() : null,
+    acceptedAtLocal: row.accepted_at ? localTime(new Date(row.accepted_at), row.time_zone) : null,
     verdict: row.fails > 0 ? 'fail' : row.marginals > 0 ? 'marginal' : 'pass',
   }
 }
@@ -75,24 +59,34 @@ export class VerifyService {
 
   private async answerFor(row: ReportRow, reasons: string[], sha256: string | null): Promise<VerifyAnswer> {
     const newer = await this.successor(row)
+    const fileChecked = sha256 !== null
     if (newer) {
       return {
         outcome: 'genuine_superseded',
-        headline: `Genuine report ${row.report_number}, superseded by ${newer.report_number}`,
+        headline: fileChecked ? `Genuine report ${row.report_number}, superseded by ${newer.report_number}` : `${row.report_number} is an issued report, superseded by ${newer.report_number}`,
         reasons: [...reasons, `A later start-up of ${row.tag} with the same checklist was accepted and issued as ${newer.report_number}.`],
         report: facts(row),
         supersededBy: facts(newer),
         sha256,
+        fileChecked,
       }
     }
-    return { outcome: 'genuine_current', headline: `Genuine report ${row.report_number}, and it is the current one`, reasons, report: facts(row), supersededBy: null, sha256 }
+    return {
+      outcome: 'genuine_current',
+      headline: fileChecked ? `Genuine report ${row.report_number}, and it is the current one` : `${row.report_number} is an issued report, and the current one`,
+      reasons,
+      report: facts(row),
+      supersededBy: null,
+      sha256,
+      fileChecked,
+    }
   }
 
   /** The state of a report number (the QR code's link): genuine and current, superseded, or unknown. */
   async byNumber(reportNumber: string): Promise<VerifyAnswer> {
     const [row] = (await this.db.query(`${FACTS_SQL} AND r.report_number = $1`, [reportNumber])) as ReportRow[]
-    if (!row) return { outcome: 'unknown', headline: `No issued report ${reportNumber} is in this archive`, reasons: ['The number may be mistyped, or the report was issued elsewhere.'], report: null, supersededBy: null, sha256: null }
-    return this.answerFor(row, [`Report ${reportNumber} is in the archive.`], null)
+    if (!row) return { outcome: 'unknown', headline: `No issued report ${reportNumber} is in this archive`, reasons: ['The number may be mistyped, or the report was issued elsewhere.'], report: null, supersededBy: null, sha256: null, fileChecked: false }
+    return this.answerFor(row, [`Report ${reportNumber} is in the archive.`, 'No file was compared: upload your copy to check that it is this report, unaltered.'], null)
   }
 
   /** Checks an uploaded file: its SHA-256 against the archive first, then its embedded seal. */
@@ -125,6 +119,7 @@ export class VerifyService {
         report: claimedRow ? facts(claimedRow) : null,
         supersededBy: null,
         sha256,
+        fileChecked: true,
       }
     }
     if (claimedRow) {
@@ -135,6 +130,7 @@ export class VerifyService {
         report: facts(claimedRow),
         supersededBy: null,
         sha256,
+        fileChecked: true,
       }
     }
     const reasons = seal === null
@@ -142,6 +138,6 @@ export class VerifyService {
       : seal.signed
         ? [`It carries a seal${seal.signerCommonName ? ` by "${seal.signerCommonName}"` : ''}, but no report with this content is in this archive.`]
         : ['It carries no digital seal and matches no archived report.']
-    return { outcome: 'unknown', headline: 'This archive does not know this document', reasons, report: null, supersededBy: null, sha256 }
+    return { outcome: 'unknown', headline: 'This archive does not know this document', reasons, report: null, supersededBy: null, sha256, fileChecked: true }
   }
 }

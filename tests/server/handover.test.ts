@@ -218,7 +218,10 @@ describe('handover package', () => {
     expect((await agent.get('/api/archive').expect(200)).body.total).toBe(0)
     // The public verify answer by number shows only the public fields.
     const answer = (await agent.get(`/api/verify/${s.first}`).expect(200)).body.answer
-    expect(Object.keys(answer.report).sort()).toEqual(['acceptedAt', 'equipmentTag', 'projectName', 'reportNumber', 'verdict'])
+    expect(Object.keys(answer.report).sort()).toEqual(['acceptedAt', 'acceptedAtLocal', 'equipmentTag', 'projectName', 'reportNumber', 'verdict'])
+    expect(answer).toMatchObject({ fileChecked: false, headline: `${s.first} is an issued report, superseded by ${s.second}` })
+    expect(answer.report.acceptedAtLocal).toMatch(/^\d{4}-\d{2}-\d{2} \d{2}:\d{2} C[SD]T$/)
+    expect((await agent.get(`/api/verify/${s.first.toLowerCase()}`).expect(200)).body.answer.report.reportNumber).toBe(s.first)
 
     const mine = (await s.contractorAgent.get('/api/archive/facets').expect(200)).body
     expect(mine.projects).toEqual([expect.objectContaining({ id: s.project.id, reportCount: 2, closed: false })])

@@ -58,7 +58,8 @@ describe('/api/verify (public)', () => {
     expect(genuine.status).toBe(200)
     expect(genuine.body.answer).toMatchObject({ outcome: 'genuine_current', report: { reportNumber: first.reportNumber, equipmentTag: 'CH-7', verdict: 'pass' } })
     // The public answer holds only the report number, tag, project, acceptance date and verdict.
-    expect(Object.keys(genuine.body.answer.report).sort()).toEqual(['acceptedAt', 'equipmentTag', 'projectName', 'reportNumber', 'verdict'])
+    expect(Object.keys(genuine.body.answer.report).sort()).toEqual(['acceptedAt', 'acceptedAtLocal', 'equipmentTag', 'projectName', 'reportNumber', 'verdict'])
+    expect(genuine.body.answer.fileChecked).toBe(true)
 
     const altered = Buffer.from(first.pdf)
     const at = altered.indexOf('/Type /Page') + 3
