@@ -32,6 +32,9 @@ export async function startServer(config: Config): Promise<RunningServer> {
   mail.startWorker()
   const seal = await services.renderer.prepare()
   console.log(`Reports are sealed with "${seal.commonName}" (SHA-256 ${seal.fingerprintSha256.slice(0, 16)}…${seal.created ? ', created now' : ''}${seal.selfSigned ? ', self-signed' : ''})`)
+  if (config.NODE_ENV === 'production' && /^https?:\/\/(localhost|127\.|\[::1\])/i.test(config.PUBLIC_URL)) {
+    console.warn(`PUBLIC_URL is ${config.PUBLIC_URL}: report QR codes, mail and handover packages will point there; set it to the address owners can reach`)
+  }
   // Two documents at a time per pooled browser (see server/reports/browser-pool.ts).
   const queue = new ReportQueue(config.DATABASE_URL, services.reports, { concurrency: config.REPORT_BROWSERS * 2 })
   await queue.start()

@@ -325,6 +325,13 @@ function signatureRows(run: RunDetail): Row[] {
   }))
 }
 
+/** Where the package says to check a report; a warning when the product runs without a public address. */
+function verifyAt(publicUrl: string): string {
+  const url = `${publicUrl.replace(/\/$/, '')}/verify`
+  const local = /^https?:\/\/(localhost|127\.|\[::1\])/i.test(publicUrl)
+  return local ? `${url} (NOTE: this address only works on the machine that made the package; ask the sender for the firm's public Verify address)` : url
+}
+
 function readme(plan: PackagePlan, generatedAt: Date, publicUrl: string): string {
   const scope = plan.scope.projectId
     ? `every issued report of project ${plan.projects.map((p) => `${p.code} (${p.name})`).join(', ')}`
@@ -338,10 +345,14 @@ It has ${plan.items.length} sealed start-up report${plan.items.length === 1 ? ''
 Made ${generatedAt.toISOString()} (UTC) by ${plan.user.displayName}.
 
 THE SEALED PDF IS THE RECORD. Everything else here is a copy of the same data in forms a program can read.
-To tell whether a report is genuine and current, open ${publicUrl.replace(/\/$/, '')}/verify and give it the PDF,
+To tell whether a report is genuine and current, open ${verifyAt(publicUrl)} and give it the PDF,
 or scan the QR code printed in the report. To check that nothing in this package changed since it was made, run
   sha256sum -c SHA256SUMS
 in this folder (every file except SHA256SUMS itself is listed).
+
+KEEP SUPERSEDED REPORTS. A re-test of the same equipment with the same checklist supersedes the earlier report, but
+a re-test may mark checks not applicable because they were done and accepted before (its reason names that report).
+The earlier reports are then still the evidence for those checks; reports.csv names each one's successor.
 
 LAYOUT
   README.txt                    this file
