@@ -66,10 +66,6 @@ export const projectCloseApi = {
   reopen: (projectId: string) => http.post<{ project: ProjectSummary }>(`/projects/${encodeURIComponent(projectId)}/reopen`).then((r) => r.project),
 }
 
-/** When the project was closed, or null while it is open (read so that it works before and after `closedAt` exists on every answer). */
-export const projectClosedAt = (project: ProjectSummary | null | undefined): string | null =>
-  (project as (ProjectSummary & { closedAt?: string | null }) | null | undefined)?.closedAt ?? null
-
 /** Files accepted as closeout documents: the server refuses anything else. */
 export const CLOSEOUT_ACCEPT = '.pdf,.jpg,.jpeg,.png,.webp,.docx,.xlsx,application/pdf,image/jpeg,image/png,image/webp,application/vnd.openxmlformats-officedocument.wordprocessingml.document,application/vnd.openxmlformats-officedocument.spreadsheetml.sheet'
 const CLOSEOUT_EXTENSIONS = /\.(pdf|jpe?g|png|webp|docx|xlsx)$/i

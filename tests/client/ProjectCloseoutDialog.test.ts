@@ -121,7 +121,7 @@ describe('ProjectCloseoutDialog', () => {
     await pickFile(pdf())
     await submit()
     expect(errorOf('closeout-date-item')).toBe('Document date must not be in the future')
-    expect(field('closeout-problem').textContent).toContain('Nothing was attached: check document date.')
+    expect(field('closeout-problem').textContent).toContain('Nothing was attached: Document date must not be in the future')
     expect((document.querySelector('input[data-test=closeout-title]') as HTMLInputElement).value).toBe('Refrigerant leak test certificate')
     expect(field('closeout-file-name').textContent).toContain('warranty.pdf')
 
