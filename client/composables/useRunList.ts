@@ -17,7 +17,7 @@ export function runProgressText(run: RunSummary): { text: string; pct: number } 
 }
 
 export function runUpdatedText(run: RunSummary): string {
-  return new Date(run.updatedAt).toLocaleString('en-US', { month: 'short', day: 'numeric', hour: 'numeric', minute: '2-digit' })
+  return new Date(run.updatedAt).toLocaleString('en-US', { year: 'numeric', month: 'short', day: 'numeric', hour: 'numeric', minute: '2-digit' })
 }
 
 /** Runs from `GET /api/runs` (or one equipment item's runs), loaded on mount. */
