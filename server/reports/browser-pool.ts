@@ -38,6 +38,11 @@ export async function launchReportBrowser(options: { executablePath?: string; ti
       userDataDir,
       args: CHROMIUM_ARGS,
       timeout: options.timeoutMs ?? 30_000,
+      // The server's own shutdown closes the pool; puppeteer's handlers would exit the process first (SIGINT exits
+      // with 130 at once), leaving the database of `npm start` running.
+      handleSIGINT: false,
+      handleSIGTERM: false,
+      handleSIGHUP: false,
     })
     return {
       browser,
