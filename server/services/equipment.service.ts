@@ -70,6 +70,8 @@ export class EquipmentService {
   }
 
   async create(projectId: string, input: EquipmentCreateInput, actor: Actor): Promise<EquipmentDetail> {
+    const project = await this.db.getRepository(Project).findOneBy({ id: projectId })
+    if (project?.closedAt) throw new AppError('project_closed', `Project ${project.code} is closed; reopen it before adding equipment`, 409)
     await this.assertTagFree(projectId, input.tag)
     const designPoint = canonicalDesignPoint(input.designPoint as Record<string, unknown>)
     const saved = await this.db.transaction(async (tx) => {

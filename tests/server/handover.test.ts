@@ -5,7 +5,7 @@ import { parse } from 'csv-parse/sync'
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
 import type { ReportRenderer, ReportService } from '../../server/services/report.service'
 import { createTestContext, makeUser, resetDatabase, signedInAgent, type TestContext } from '../helpers/context'
-import { issueReport, makeSignable, readyRun } from '../helpers/runs'
+import { chiller, issueReport, makeSignable, readyRun } from '../helpers/runs'
 import { binary, unzip } from '../helpers/zip'
 
 let ctx: TestContext
@@ -277,6 +277,9 @@ describe('retention', () => {
     const refused = await techAgent.post(`/api/equipment/${s.equipment.id}/runs`).send({ templateId: s.template.id })
     expect(refused.status).toBe(409)
     expect(refused.body.error.message).toMatch(/closed/)
+    const moreEquipment = await s.adminAgent.post(`/api/projects/${s.project.id}/equipment`).send({ ...chiller, tag: 'CH-8', serialNumber: 'TW-8' })
+    expect(moreEquipment.status).toBe(409)
+    expect(moreEquipment.body.error.message).toMatch(/closed/)
     await s.adminAgent.post(`/api/projects/${s.project.id}/reopen`).expect(200)
     expect((await techAgent.post(`/api/equipment/${s.equipment.id}/runs`).send({ templateId: s.template.id })).status).toBe(201)
 
