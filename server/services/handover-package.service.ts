@@ -45,6 +45,10 @@ export const CSV_COLUMNS = {
 /** At most this much of the ZIP waits in memory for a slow client before the next file is read. */
 const QUEUED_BYTES = 4 * 1024 * 1024
 
+type StoredRef = { storageKey: string; sha256: string; mimeType: string }
+/** PDFs, images and Office files are compressed already; deflating them again costs time and gains nothing. */
+const alreadyCompressed = (mimeType: string) => /pdf|jpeg|png|webp|openxmlformats/.test(mimeType)
+
 type Row = Record<string, string | number | boolean | null | undefined>
 const csv = (columns: readonly string[], rows: Row[]) => Buffer.from(stringify(rows, { header: true, columns: [...columns], bom: true, cast: { boolean: (b) => (b ? 'true' : 'false') } }))
 const json = (value: unknown) => Buffer.from(`${JSON.stringify(value, null, 2)}\n`)
@@ -97,8 +101,8 @@ export class HandoverPackageService {
     const generatedAt = new Date()
 
     /** Adds one entry and waits until it is in the stream and the client has room for more. */
-    const add = async (path: string, data: Buffer, date = generatedAt, compressed = false) => {
-      files.push({ path, sha256: sha256(data), sizeBytes: data.length })
+    const add = async (path: string, data: Buffer, date = generatedAt, compressed = false, knownSha256?: string) => {
+      files.push({ path, sha256: knownSha256 ?? sha256(data), sizeBytes: data.length })
       const written = once(zip, 'entry')
       zip.append(data, { name: path, date, store: compressed })
       await Promise.race([written, failed])
@@ -109,13 +113,17 @@ export class HandoverPackageService {
       if (out.destroyed) throw new Error('the client went away before the package was complete')
     }
 
+    /** A stored file: read and proven against its recorded SHA-256 by the storage service, so that hash is listed as is. */
+    const addStored = async (path: string, file: StoredRef, date: Date) =>
+      add(path, await this.deps.storage.read(file.storageKey, file.sha256), date, alreadyCompressed(file.mimeType), file.sha256)
+
     const reportRows: Row[] = []
     for (const item of plan.items) {
       const folder = `runs/${item.reportNumber}`
       const pdfPath = `reports/${item.reportNumber}.pdf`
-      await add(pdfPath, await this.deps.storage.read(item.storageKey, item.sha256), new Date(item.acceptedAt), true)
+      await addStored(pdfPath, { storageKey: item.storageKey, sha256: item.sha256, mimeType: 'application/pdf' }, new Date(item.acceptedAt))
       const run = await this.deps.runs.detailForReport(item.runId)
-      const attachmentPaths = await this.addAttachments(run, folder, add)
+      const attachmentPaths = await this.addAttachments(run, folder, addStored)
       const { reading: readingRows, steps: stepRows } = runRows(run)
       await add(`${folder}/run.json`, json({ ...PACKAGE_FILE_FORMATS.run, reportNumber: item.reportNumber, report: publicItem(item), run }))
       await add(`${folder}/readings.csv`, csv(CSV_COLUMNS.readings, readingRows))
@@ -154,7 +162,7 @@ export class HandoverPackageService {
       let path = `closeout/${safe(codeOf.get(doc.projectId) ?? 'project')}/${doc.category}/${doc.documentDate} ${safe(doc.title, 60)}${safe(ext, 8)}`
       for (let n = 2; used.has(path); n++) path = path.replace(/( \(\d+\))?(\.[^.]*)?$/, (_m, _n, e) => ` (${n})${e ?? ''}`)
       used.add(path)
-      await add(path, await this.deps.storage.read(doc.attachment.storageKey, doc.attachment.sha256), doc.uploadedAt, /pdf|jpeg|png|webp|openxml/.test(doc.attachment.mimeType))
+      await addStored(path, doc.attachment, doc.uploadedAt)
       closeoutRows.push({
         document_id: view.id,
         project_code: codeOf.get(doc.projectId),
@@ -210,13 +218,13 @@ export class HandoverPackageService {
 
   }
 
-  private async addAttachments(run: RunDetail, folder: string, add: (path: string, data: Buffer, date?: Date, compressed?: boolean) => Promise<void>): Promise<Map<string, string>> {
+  private async addAttachments(run: RunDetail, folder: string, addStored: (path: string, file: StoredRef, date: Date) => Promise<void>): Promise<Map<string, string>> {
     const links = await this.db.getRepository(RunAttachment).find({ where: { runId: run.id }, relations: { attachment: true }, order: { createdAt: 'ASC' } })
     const paths = new Map<string, string>()
     let n = 0
     for (const link of links) {
       const path = `${folder}/files/${String(++n).padStart(2, '0')}-${safe(link.attachment.originalName)}`
-      await add(path, await this.deps.storage.read(link.attachment.storageKey, link.attachment.sha256), link.createdAt, /pdf|jpeg|png|webp/.test(link.attachment.mimeType))
+      await addStored(path, link.attachment, link.createdAt)
       paths.set(link.id, path)
     }
     return paths
