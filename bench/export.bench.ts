@@ -9,8 +9,10 @@ import path from 'node:path'
 import type { AddressInfo } from 'node:net'
 import { loadConfig } from '../server/config'
 import { createApp } from '../server/app'
+import { createAppServices } from '../server/services'
 import { startThrowawayCluster } from '../server/db/cluster'
 import { createDataSource } from '../server/db/data-source'
+import { migrateDatabase } from '../server/db/migrate'
 import { DEMO_PEOPLE, loadDemoData } from '../server/db/demo-data'
 import type { ReportRenderer, ReportService } from '../server/services/report.service'
 
@@ -60,19 +62,20 @@ function download(url: string, cookie: string, bytesPerSecond = 0): Promise<{ st
 async function main() {
   const cluster = await startThrowawayCluster('startproof-bench-export-', 'startproof_bench')
   const root = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-bench-export-files-'))
-  const db = createDataSource(cluster.url, { poolSize: 4 })
+  // The app and the demo load connect as the application role, as a server does; the owner only migrates.
+  const db = createDataSource(cluster.appUrl, { poolSize: 4 })
   let server: http.Server | null = null
   let renderer: ReportRenderer | null = null
   try {
+    await migrateDatabase({ migrationUrl: cluster.url, appRole: cluster.appRole })
     await db.initialize()
-    await db.runMigrations({ transaction: 'each' })
     let t = performance.now()
     await loadDemoData(db)
     console.log(`Demo data loaded in ${((performance.now() - t) / 1000).toFixed(1)} s`)
 
-    const config = loadConfig({ NODE_ENV: 'test', DATABASE_URL: cluster.url, CLIENT_DIST: '/nonexistent', STORAGE_DIR: path.join(root, 'files'), CERT_DIR: path.join(root, 'certs') })
-    const app = createApp({ config, db })
-    const services = app.locals.services as { reports: ReportService; renderer: ReportRenderer }
+    const config = loadConfig({ NODE_ENV: 'test', DATABASE_URL: cluster.appUrl, CLIENT_DIST: '/nonexistent', STORAGE_DIR: path.join(root, 'files'), CERT_DIR: path.join(root, 'certs') })
+    const services = createAppServices(config, db)
+    const app = createApp({ config, db, services })
     renderer = services.renderer
     const pending = await services.reports.pendingIds()
     t = performance.now()

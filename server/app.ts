@@ -17,62 +17,29 @@ import { outboxRoutes } from './routes/outbox.routes'
 import { verifyRoutes } from './routes/verify.routes'
 import { archiveRoutes, projectPackageRoutes } from './routes/archive.routes'
 import { closeoutRoutes } from './routes/closeout.routes'
-import { CloseoutService } from './services/closeout.service'
-import { HandoverPackageService } from './services/handover-package.service'
-import { ArchiveService } from './services/archive.service'
-import { VerifyService } from './services/verify.service'
 import { runRoutes } from './routes/run.routes'
 import { templateRoutes } from './routes/template.routes'
 import { SESSION_COOKIE, sessionRoutes } from './routes/session.routes'
 import { userRoutes } from './routes/user.routes'
-import { EquipmentService } from './services/equipment.service'
-import { FindingService } from './services/finding.service'
-import { ProjectService } from './services/project.service'
-import { RunService } from './services/run.service'
-import { SigningService } from './services/signing.service'
-import { MailService } from './mail/mail.service'
-import { ReportService } from './services/report.service'
-import { createReportRenderer } from './jobs/report-renderer'
-import { LocalDiskStorage, StorageService } from './storage/storage'
-import { TemplateService } from './services/template.service'
-import { UserService } from './services/user.service'
+import { createAppServices, type AppServices } from './services'
 
 export interface AppDeps {
   config: Config
   db: DataSource
+  /** Built from the configuration when not given (index.ts and the tests pass the ones they also start or inspect). */
+  services?: AppServices
 }
 
-/** Builds the Express app: middleware, routes, client, errors. No listening and no connecting here. */
-export function createApp({ config, db }: AppDeps): Express {
+/** Builds the Express app from its services: middleware, routes, client, errors. No listening and no connecting here. */
+export function createApp({ config, db, services = createAppServices(config, db) }: AppDeps): Express {
   const app = express()
   app.disable('x-powered-by')
   app.set('trust proxy', config.TRUST_PROXY === 'false' ? false : config.TRUST_PROXY)
 
-  const users = new UserService(db)
-  const projects = new ProjectService(db)
-  const templates = new TemplateService(db)
-  const storage = new StorageService(new LocalDiskStorage(path.resolve(config.STORAGE_DIR)))
-  const equipment = new EquipmentService(db, projects, storage)
+  const { users, projects, templates, equipment, runs, findings, signing, reports, archive, closeout, packages, verify } = services
   const equipmentRouters = equipmentRoutes(config, equipment, projects)
-  const runs = new RunService(db, projects)
-  const findings = new FindingService(db, runs, storage)
-  runs.findings = findings
-  const mail = new MailService(db, storage, { smtpUrl: config.SMTP_URL, from: config.MAIL_FROM })
-  const signing = new SigningService(db, runs, findings, mail, config.PUBLIC_URL)
-  const renderer = createReportRenderer(config, async () => {
-    const [row] = await db.query(`SELECT name FROM organization ORDER BY created_at LIMIT 1`)
-    return row?.name ?? 'Startproof'
-  })
-  const reports = new ReportService(db, { runs, projects, equipment, signing, storage, mail, publicUrl: config.PUBLIC_URL, renderer: () => renderer })
-  signing.onAccepted = async (runId) => {
-    await reports.requestFor(runId)
-  }
   const runRouters = runRoutes(config, runs, findings, signing, reports)
-  const archive = new ArchiveService(db)
-  const closeout = new CloseoutService(db, projects, storage)
   const closeoutRouters = closeoutRoutes(config, closeout, projects)
-  const packages = new HandoverPackageService(db, { archive, closeout, runs, storage, publicUrl: config.PUBLIC_URL })
-  app.locals.services = { mail, signing, runs, findings, storage, reports, renderer, archive, closeout, packages }
   const passport = createPassport(users)
   const PgStore = connectPgSimple(session)
   // The sessions share TypeORM's pg pool: one pool per process, and it reconnects by itself after an outage.
@@ -117,7 +84,7 @@ export function createApp({ config, db }: AppDeps): Express {
   api.use(passport.initialize())
   api.use(passport.session())
   api.use(sessionRoutes({ config, passport, users, rateLimitStore: new PostgresRateLimitStore(db) }))
-  api.use('/verify', verifyRoutes(new VerifyService(db), new PostgresRateLimitStore(db, 'verify:')))
+  api.use('/verify', verifyRoutes(verify, new PostgresRateLimitStore(db, 'verify:')))
   api.use('/users', requireAuth, userRoutes(users))
   api.use('/projects/:projectId/equipment', requireAuth, equipmentRouters.byProject)
   api.use('/projects/:projectId/closeout-documents', requireAuth, closeoutRouters.byProject)

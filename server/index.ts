@@ -2,10 +2,9 @@ import type { Server } from 'node:http'
 import { ConfigError, loadConfig, type Config } from './config'
 import { createApp } from './app'
 import { createDataSource } from './db/data-source'
+import { migrateDatabase, migrationTarget } from './db/migrate'
 import { ensureStarterLibrary } from './services/starter-library'
-import type { MailService } from './mail/mail.service'
-import { ReportQueue } from './jobs/report-queue'
-import type { ReportRenderer, ReportService } from './services/report.service'
+import { createAppServices } from './services'
 
 export interface RunningServer {
   server: Server
@@ -13,7 +12,7 @@ export interface RunningServer {
   close(): Promise<void>
 }
 
-/** Connects to PostgreSQL (runs pending migrations) and listens; resolves once it accepts requests. */
+/** Runs pending migrations as the owner, connects to PostgreSQL as the application and listens; resolves once it accepts requests. */
 export async function startServer(config: Config): Promise<RunningServer> {
   const db = createDataSource(config.DATABASE_URL)
   try {
@@ -23,21 +22,23 @@ export async function startServer(config: Config): Promise<RunningServer> {
     url.password = url.password ? '***' : ''
     throw new Error(`Cannot connect to the database at DATABASE_URL=${url.toString()}: ${(err as Error).message}`)
   }
-  await db.runMigrations({ transaction: 'each' })
+  // Migrations, pg-boss's schema and the application role's grants, as the owner (MIGRATION_DATABASE_URL when set).
+  await migrateDatabase({ ...migrationTarget(config), log: (line) => console.log(line) }).catch(async (err) => {
+    await db.destroy()
+    throw err
+  })
   const added = await ensureStarterLibrary(db)
   if (added) console.log(`Added ${added} starter template${added === 1 ? '' : 's'} to the library`)
-  const app = createApp({ config, db })
-  const services = app.locals.services as { mail: MailService; reports: ReportService; renderer: ReportRenderer }
-  const mail = services.mail
+  const services = createAppServices(config, db)
+  const app = createApp({ config, db, services })
+  const { mail, reports, renderer, queue } = services
   mail.startWorker()
-  const seal = await services.renderer.prepare()
+  const seal = await renderer.prepare()
   console.log(`Reports are sealed with "${seal.commonName}" (SHA-256 ${seal.fingerprintSha256.slice(0, 16)}…${seal.created ? ', created now' : ''}${seal.selfSigned ? ', self-signed' : ''})`)
   if (config.NODE_ENV === 'production' && /^https?:\/\/(localhost|127\.|\[::1\])/i.test(config.PUBLIC_URL)) {
     console.warn(`PUBLIC_URL is ${config.PUBLIC_URL}: report QR codes, mail and handover packages will point there; set it to the address owners can reach`)
   }
-  // Two documents at a time per pooled browser (see server/reports/browser-pool.ts).
-  const queue = new ReportQueue(config.DATABASE_URL, services.reports, { concurrency: config.REPORT_BROWSERS * 2 })
-  await queue.start()
+  await queue.start(reports)
   const server = await new Promise<Server>((resolve, reject) => {
     const s = app.listen(config.PORT, config.HOST, () => resolve(s))
     s.once('error', reject)
@@ -50,7 +51,7 @@ export async function startServer(config: Config): Promise<RunningServer> {
       server.closeAllConnections()
       await new Promise<void>((resolve) => server.close(() => resolve()))
       await queue.stop()
-      await services.renderer.close()
+      await renderer.close()
       await mail.stop()
       await db.destroy()
     },

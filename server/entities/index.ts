@@ -13,13 +13,14 @@ import { Report } from './report.entity'
 import { Run } from './run.entity'
 import { RunAttachment } from './run-attachment.entity'
 import { RunChange } from './run-change.entity'
+import { RunSnapshotRow } from './run-snapshot.entity'
 import { RunStep } from './run-step.entity'
 import { Signature } from './signature.entity'
 import { TemplateVersion } from './template-version.entity'
 import { User } from './user.entity'
 
-export { Attachment, AuditEvent, ChecklistTemplate, CloseoutDocument, Equipment, Finding, Organization, OutboundMail, Project, ProjectMember, Reading, Report, Run, RunAttachment, RunChange, RunStep, Signature, TemplateVersion, User }
+export { Attachment, AuditEvent, ChecklistTemplate, CloseoutDocument, Equipment, Finding, Organization, OutboundMail, Project, ProjectMember, Reading, Report, Run, RunAttachment, RunChange, RunSnapshotRow, RunStep, Signature, TemplateVersion, User }
 export const entities = [
   Organization, User, Project, ProjectMember, AuditEvent, Attachment, Equipment, ChecklistTemplate, TemplateVersion,
-  Run, Reading, RunStep, RunChange, Finding, RunAttachment, Signature, OutboundMail, Report, CloseoutDocument,
+  Run, Reading, RunStep, RunChange, Finding, RunAttachment, Signature, OutboundMail, Report, CloseoutDocument, RunSnapshotRow,
 ]

@@ -43,6 +43,42 @@ export class Report {
   @Column({ type: 'jsonb', name: 'seal_info', nullable: true })
   sealInfo: Record<string, unknown> | null
 
+  /** SHA-256 of the signed run snapshot the report is issued from (the hash both signatures carry). */
+  @Column({ type: 'char', length: 64, name: 'snapshot_sha256', nullable: true })
+  snapshotSha256: string | null
+
+  // The identity the report printed, copied from the signed snapshot at acceptance: later renames change nothing issued.
+  @Column({ type: 'text', name: 'equipment_tag', nullable: true })
+  equipmentTag: string | null
+
+  @Column({ type: 'text', name: 'equipment_kind', nullable: true })
+  equipmentKind: string | null
+
+  @Column({ type: 'text', name: 'serial_number', nullable: true })
+  serialNumber: string | null
+
+  @Column({ type: 'text', name: 'project_code', nullable: true })
+  projectCode: string | null
+
+  @Column({ type: 'text', name: 'project_name', nullable: true })
+  projectName: string | null
+
+  @Column({ type: 'text', name: 'time_zone', nullable: true })
+  timeZone: string | null
+
+  @Column({ type: 'text', name: 'template_name', nullable: true })
+  templateName: string | null
+
+  @Column({ type: 'integer', name: 'template_version', nullable: true })
+  templateVersion: number | null
+
+  /** Which render holds the report now, and until when (a lease: a crashed worker's claim runs out). */
+  @Column({ type: 'uuid', name: 'claim_token', nullable: true })
+  claimToken: string | null
+
+  @Column({ type: 'timestamptz', name: 'claimed_until', nullable: true })
+  claimedUntil: Date | null
+
   @CreateDateColumn({ type: 'timestamptz', name: 'created_at' })
   createdAt: Date
 

@@ -7,10 +7,14 @@ import { Reports1764658800000 } from './1764658800000-Reports'
 import { ArchiveIndex1764662400000 } from './1764662400000-ArchiveIndex'
 import { CloseoutAndRetention1764669600000 } from './1764669600000-CloseoutAndRetention'
 import { ArchiveQueryIndexes1764673200000 } from './1764673200000-ArchiveQueryIndexes'
+import { SignedSnapshot1764680000000 } from './1764680000000-SignedSnapshot'
+import { EditVersions1764700000000 } from './1764700000000-EditVersions'
 
 /** Every migration in order. Listed by hand so tsx, Vitest and the CLI all load the same classes without a glob. */
 export const migrations = [
   Foundation1764633600000, RateLimit1764633700000, EquipmentAndTemplates1764640800000, Runs1764648000000, SignaturesAndMail1764655200000, Reports1764658800000, ArchiveIndex1764662400000,
   CloseoutAndRetention1764669600000,
   ArchiveQueryIndexes1764673200000,
+  SignedSnapshot1764680000000,
+  EditVersions1764700000000,
 ]

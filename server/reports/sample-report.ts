@@ -5,7 +5,7 @@ import type { AnyDesignPoint } from '@shared/schemas/design-point'
 import { canonicalDesignPoint } from '@shared/format/design-point'
 import { demoChiller } from '../db/demo-data'
 import type { FieldEntry } from '@shared/schemas/reading'
-import type { EquipmentDetail, ProjectSummary } from '@shared/types/api'
+import type { RecordEquipment, RecordProject } from '@shared/record'
 import type { ReportInput, SignatureRecord } from '@shared/types/report'
 import type { FindingSummary, RunAttachment, RunDetail, RunProgress, RunReading, RunStepState } from '@shared/types/run'
 import { pngDataUrl } from './png'
@@ -274,8 +274,9 @@ export function sampleReportInput(options: { paper?: 'A4' | 'Letter' } = {}): Re
     attachment('att-settings', 'safeties', null, null, 'controller-settings-sheet.pdf', 'application/pdf'),
   ]
 
-  const project: ProjectSummary = {
+  const project: RecordProject = {
     id: 'prj-vxh',
+    organizationName: 'Tallowmere Commissioning Group',
     code: 'VXH-CUP',
     name: 'Vexley General Hospital — central utility plant chiller replacement',
     siteName: 'Vexley General Hospital',
@@ -283,12 +284,8 @@ export function sampleReportInput(options: { paper?: 'A4' | 'Letter' } = {}): Re
     timeZone: 'America/Chicago',
     unitSystem: 'IP',
     reportPaper: options.paper ?? 'A4',
-    distributionList: ['facilities.records@vexleyhealth.test', 'closeout@pellworthmech.test'],
-    closedAt: null,
-    memberCount: 4,
-    equipmentCount: 4,
   }
-  const equipment: EquipmentDetail = {
+  const equipment: RecordEquipment = {
     id: 'eq-ch2',
     projectId: project.id,
     tag: 'CH-2',
@@ -299,11 +296,7 @@ export function sampleReportInput(options: { paper?: 'A4' | 'Letter' } = {}): Re
     serialNumber: 'HX-24-0312',
     yearBuilt: 2024,
     refrigerant: 'R-134a',
-    hasNameplatePhoto: false,
-    updatedAt: '2026-11-02T10:00:00.000Z',
     designPoint,
-    notes: '',
-    nameplatePhoto: null,
   }
 
   const runBase = { definition, readings, steps }
@@ -365,6 +358,7 @@ export function sampleReportInput(options: { paper?: 'A4' | 'Letter' } = {}): Re
     equipment,
     run,
     signatures,
+    snapshotSha256: signatures[0].snapshotSha256,
     verifyUrl: `https://startproof.example.test/verify/${reportNumber}`,
     generatedAtUtc: '2026-12-01T22:43:10.000Z',
     photoDataUrls: {

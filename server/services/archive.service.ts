@@ -106,11 +106,11 @@ export class ArchiveService {
     const visible = await this.visibleProjects(user)
     if (scope.projectId) {
       if (!visible.includes(scope.projectId)) throw new AppError('invalid_input', 'projectId names no project you can see', 400, { projectId: 'No such project' })
-      const rows = await this.select(`r.status = 'ready' AND r.project_id = $1`, [scope.projectId], 'e.tag, r.accepted_at, r.id')
+      const rows = await this.select(`r.status = 'ready' AND r.project_id = $1`, [scope.projectId], 'r.equipment_tag, r.accepted_at, r.id')
       return rows.map((r) => ({ ...toItem(r), storageKey: r.storage_key as string }))
     }
     const numbers = [...new Set(scope.reportNumbers ?? [])]
-    const rows = await this.select(`r.status = 'ready' AND r.project_id = ANY($1::uuid[]) AND r.report_number = ANY($2::text[])`, [visible, numbers], 'p.code, e.tag, r.accepted_at, r.id')
+    const rows = await this.select(`r.status = 'ready' AND r.project_id = ANY($1::uuid[]) AND r.report_number = ANY($2::text[])`, [visible, numbers], 'r.project_code, r.equipment_tag, r.accepted_at, r.id')
     const found = new Set(rows.map((r) => r.report_number as string))
     const missing: Record<string, string> = {}
     ;(scope.reportNumbers ?? []).forEach((n, i) => {
@@ -159,19 +159,16 @@ export class ArchiveService {
 
   private select(where: string, params: unknown[], orderBy: string, limit = ''): Promise<Record<string, unknown>[]> {
     return this.db.query(
-      `SELECT r.report_number, r.run_id, r.project_id, p.code AS project_code, p.name AS project_name, p.closed_at IS NOT NULL AS project_closed,
-              p.time_zone,
-              r.equipment_id, e.tag, e.kind, e.serial_number, r.template_id, t.name AS template_name, v.number AS template_version,
+      // Identity as issued (copied from the signed snapshot at acceptance); only whether the project is closed is live.
+      `SELECT r.report_number, r.run_id, r.project_id, r.project_code, r.project_name, p.closed_at IS NOT NULL AS project_closed,
+              r.time_zone,
+              r.equipment_id, r.equipment_tag AS tag, r.equipment_kind AS kind, r.serial_number, r.template_id, r.template_name, r.template_version,
               r.technician_id, u.display_name AS technician_name, r.accepted_at, r.fail_count, r.marginal_count, r.open_finding_count,
               r.sha256, r.size_bytes, r.storage_key, r.id,
               (SELECT n.report_number FROM report n WHERE n.status = 'ready' AND n.equipment_id = r.equipment_id AND n.template_id = r.template_id
                   AND n.accepted_at > r.accepted_at ORDER BY n.accepted_at DESC LIMIT 1) AS superseded_by
          FROM report r
          JOIN project p ON p.id = r.project_id
-         JOIN equipment e ON e.id = r.equipment_id
-         JOIN checklist_template t ON t.id = r.template_id
-         JOIN run ON run.id = r.run_id
-         JOIN template_version v ON v.id = run.template_version_id
          LEFT JOIN app_user u ON u.id = r.technician_id
         WHERE ${where}
         ORDER BY ${orderBy}

@@ -1,73 +1,40 @@
-import { DataSource, In } from 'typeorm'
+import type { DataSource, EntityManager } from 'typeorm'
 import sharp from 'sharp'
 import { fileTypeFromBuffer } from 'file-type'
 import type { FindingCreateInput, FindingUpdateInput } from '@shared/schemas/run'
 import type { SessionUser } from '@shared/types/api'
 import { EDITABLE_RUN_STATES, type FindingSummary, type ReviewItem, type RunAttachment as RunAttachmentView, type RunReview } from '@shared/types/run'
 import { AppError } from '../errors/app-error'
-import { Attachment, Finding, Reading, RunAttachment, RunStep, User } from '../entities'
+import { Attachment, Finding, RunAttachment } from '../entities'
 import type { StorageService } from '../storage/storage'
 import { recordAudit } from './audit.service'
-import { runSnapshot } from './signing.service'
+import { changedKeys, editConflict } from './edit-conflict'
+import { attachmentViews, findingViews, keep, keptSnapshot, liveSnapshot, signedSnapshotHash } from './run-record'
 import { systemClock, type Clock } from './clock'
-import { fieldPlaces, progressOf, type RunContext, type RunService } from './run.service'
+import { fieldPlaces, progressOf } from '@shared/record'
+import type { RunContext, RunService } from './run.service'
 
 /** What may be attached to a run: photos and PDFs, recognised by their bytes, not by the name a browser gave them. */
 export const RUN_FILE_TYPES: Record<string, string> = { 'image/jpeg': 'jpg', 'image/png': 'png', 'image/webp': 'webp', 'application/pdf': 'pdf' }
 const THUMBNAIL_PX = 320
+/** Words for what a finding edit changes, for "Sam changed the description at 14:02 UTC". */
+const FINDING_LABELS: Record<string, string> = { severity: 'severity', description: 'description', status: 'status', resolution: 'resolution' }
 
 /** Findings (deficiencies), attachments and the review summary of a run. */
 export class FindingService {
   constructor(
     private readonly db: DataSource,
-    private readonly runs: RunService,
+    private readonly runs: Pick<RunService, 'context'>,
     private readonly storage: StorageService,
     private readonly clock: Clock = systemClock,
   ) {}
 
-  private async names(ids: (string | null)[]) {
-    const wanted = [...new Set(ids.filter((x): x is string => Boolean(x)))]
-    if (!wanted.length) return new Map<string, string>()
-    const users = await this.db.getRepository(User).findBy({ id: In(wanted) })
-    return new Map(users.map((u) => [u.id, u.displayName]))
+  async listViews(runId: string, manager: EntityManager = this.db.manager): Promise<FindingSummary[]> {
+    return findingViews(manager, runId)
   }
 
-  async listViews(runId: string): Promise<FindingSummary[]> {
-    const findings = await this.db.getRepository(Finding).find({ where: { runId }, order: { createdAt: 'ASC' } })
-    const links = await this.db.getRepository(RunAttachment).findBy({ runId })
-    const names = await this.names(findings.flatMap((f) => [f.createdBy, f.resolvedBy]))
-    return findings.map((f) => ({
-      id: f.id,
-      runId: f.runId,
-      stepId: f.stepId,
-      fieldId: f.fieldId,
-      severity: f.severity,
-      description: f.description,
-      status: f.status,
-      resolution: f.resolution,
-      resolvedAt: f.resolvedAt?.toISOString() ?? null,
-      resolvedByName: f.resolvedBy ? (names.get(f.resolvedBy) ?? null) : null,
-      createdAt: f.createdAt.toISOString(),
-      createdByName: f.createdBy ? (names.get(f.createdBy) ?? null) : null,
-      attachmentIds: links.filter((l) => l.findingId === f.id).map((l) => l.id),
-    }))
-  }
-
-  async attachmentViews(runId: string): Promise<RunAttachmentView[]> {
-    const links = await this.db.getRepository(RunAttachment).find({ where: { runId }, relations: { attachment: true }, order: { createdAt: 'ASC' } })
-    return links.map((l) => ({
-      id: l.id,
-      sha256: l.attachment.sha256,
-      mimeType: l.attachment.mimeType,
-      sizeBytes: l.attachment.sizeBytes,
-      originalName: l.attachment.originalName,
-      createdAt: l.createdAt.toISOString(),
-      stepId: l.stepId,
-      fieldId: l.fieldId,
-      findingId: l.findingId,
-      url: `/api/runs/${runId}/attachments/${l.id}`,
-      thumbnailUrl: l.thumbnailKey ? `/api/runs/${runId}/attachments/${l.id}?thumbnail=1` : null,
-    }))
+  async attachmentViews(runId: string, manager: EntityManager = this.db.manager): Promise<RunAttachmentView[]> {
+    return attachmentViews(manager, runId)
   }
 
   private assertCanEdit(user: SessionUser, ctx: RunContext) {
@@ -94,9 +61,19 @@ export class FindingService {
       await recordAudit(tx, { actorId: user.id, action: 'finding.create', entityType: 'finding', entityId: finding.id, projectId: ctx.run.projectId, after: { runId, stepId: finding.stepId, fieldId: finding.fieldId, severity: finding.severity, description: finding.description }, occurredAt: now })
       return finding.id
     })
-    return (await this.listViews(runId)).find((f) => f.id === id)!
+    return this.view(runId, id)
   }
 
+  /** One finding as the runner shows it, with the edit version its next edit must name. */
+  private async view(runId: string, findingId: string, manager: EntityManager = this.db.manager): Promise<FindingSummary> {
+    const [views, row] = await Promise.all([this.listViews(runId, manager), manager.getRepository(Finding).findOneByOrFail({ id: findingId, runId })])
+    return { ...views.find((f) => f.id === findingId)!, version: row.version }
+  }
+
+  /**
+   * Edits, resolves or reopens a finding on the version the edit was made on: one made on an older version is refused
+   * (409 `edit_conflict`, with who changed what and the finding as it is now); one that changes nothing is accepted.
+   */
   async update(user: SessionUser, runId: string, findingId: string, input: FindingUpdateInput): Promise<FindingSummary> {
     await this.db.transaction(async (tx) => {
       const ctx = await this.runs.context(user, runId, tx, true)
@@ -120,11 +97,25 @@ export class FindingService {
       } else if (input.resolution !== undefined && finding.status === 'resolved') {
         finding.resolution = input.resolution
       }
+      const after = { severity: finding.severity, description: finding.description, status: finding.status, resolution: finding.resolution }
+      if (!changedKeys(before, after).length) return
+      if (finding.version !== input.version) {
+        throw await editConflict(tx, {
+          entityType: 'finding',
+          entityId: finding.id,
+          actions: ['finding.update'],
+          labels: FINDING_LABELS,
+          thing: 'this finding',
+          viewerId: user.id,
+          current: await this.view(runId, findingId, tx),
+        })
+      }
       finding.updatedAt = now
+      finding.version += 1
       await tx.getRepository(Finding).save(finding)
-      await recordAudit(tx, { actorId: user.id, action: 'finding.update', entityType: 'finding', entityId: finding.id, projectId: ctx.run.projectId, before, after: { severity: finding.severity, description: finding.description, status: finding.status, resolution: finding.resolution, runId }, occurredAt: now })
+      await recordAudit(tx, { actorId: user.id, action: 'finding.update', entityType: 'finding', entityId: finding.id, projectId: ctx.run.projectId, before, after: { ...after, runId }, occurredAt: now })
     })
-    return (await this.listViews(runId)).find((f) => f.id === findingId)!
+    return this.view(runId, findingId)
   }
 
   /** Stores a photo or PDF for a step (a field, a finding), with a thumbnail for images; the bytes decide the type. */
@@ -185,16 +176,20 @@ export class FindingService {
     return { data, mimeType: link.attachment.mimeType, sha256: link.attachment.sha256, name: link.attachment.originalName }
   }
 
-  /** What the performer must see before signing: every fail and marginal with its handling, what is missing, what is open. */
-  async review(user: SessionUser, runId: string): Promise<RunReview> {
-    const ctx = await this.runs.context(user, runId)
-    const [readings, steps, findings] = await Promise.all([
-      this.db.getRepository(Reading).findBy({ runId }),
-      this.db.getRepository(RunStep).findBy({ runId }),
-      this.listViews(runId),
-    ])
-    const naSteps = new Set(steps.filter((s) => s.notApplicable).map((s) => s.stepId))
-    const places = fieldPlaces(ctx.definition)
+  /**
+   * What the signer must see before signing: every fail and marginal with its handling, what is missing, what is open,
+   * and the hash of the snapshot to sign. Until the performer signs, that is the live run; from then on it is the
+   * snapshot the performer signed, so the owner's representative reviews and accepts exactly that.
+   */
+  async review(user: SessionUser, runId: string, manager: EntityManager = this.db.manager): Promise<RunReview> {
+    const ctx = await this.runs.context(user, runId, manager)
+    const signedHash = EDITABLE_RUN_STATES.includes(ctx.run.state) ? null : await signedSnapshotHash(manager, runId)
+    const kept = signedHash ? await keptSnapshot(manager, runId, signedHash) : keep(await liveSnapshot(manager, runId))
+    const { snapshot } = kept
+    const readings = Object.values(snapshot.readings)
+    const findings = snapshot.findings
+    const naSteps = new Set(Object.values(snapshot.steps).filter((s) => s.notApplicable).map((s) => s.stepId))
+    const places = fieldPlaces(snapshot.definition)
     const order = [...places.keys()]
     readings.sort((a, b) => order.indexOf(a.fieldId) - order.indexOf(b.fieldId))
     const problems: ReviewItem[] = []
@@ -212,8 +207,9 @@ export class FindingService {
         findingIds: findings.filter((f) => f.fieldId === r.fieldId).map((f) => f.id),
         justification: r.justification,
       })
-      if (r.verdict === 'fail' || r.verdict === 'marginal') problems.push(item(r.verdict))
-      else if (r.verdict === 'incomplete' && place.field.required !== false && !place.field.computed) missingRequired.push(item('incomplete'))
+      const verdict = r.evaluation.verdict
+      if (verdict === 'fail' || verdict === 'marginal') problems.push(item(verdict))
+      else if (verdict === 'incomplete' && place.field.required !== false && !place.field.computed) missingRequired.push(item('incomplete'))
     }
     const unhandled = problems.filter((p) => p.verdict === 'fail' && !p.findingIds.length && !p.justification?.trim())
     const blockers = [
@@ -221,14 +217,15 @@ export class FindingService {
       ...missingRequired.map((m) => `${m.label} is required and has no value (record it or mark it not applicable with a reason)`),
     ]
     if (!EDITABLE_RUN_STATES.includes(ctx.run.state)) blockers.push(`The run is ${ctx.run.state.replace('_', ' ')}`)
+    const counted = readings.map((r) => ({ fieldId: r.fieldId, verdict: r.evaluation.verdict, notApplicable: r.notApplicable }))
     return {
-      counts: progressOf(ctx.definition, readings, naSteps),
+      counts: progressOf(snapshot.definition, counted, naSteps),
       problems,
       missingRequired,
       openFindings: findings.filter((f) => f.status === 'open'),
       canSign: blockers.length === 0,
       blockers,
-      snapshotSha256: (await runSnapshot(this.db.manager, runId)).sha256,
+      snapshotSha256: kept.sha256,
     }
   }
 }

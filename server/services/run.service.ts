@@ -1,7 +1,8 @@
 import { isDeepStrictEqual } from 'node:util'
 import { DataSource, In, type EntityManager } from 'typeorm'
 import * as yup from 'yup'
-import type { ChecklistDefinition, ChecklistField } from '@shared/schemas/checklist'
+import type { ChecklistDefinition } from '@shared/schemas/checklist'
+import { fieldPlaces, progressOf, runDetailFromSnapshot, signatureRecord } from '@shared/record'
 import { entrySchemaFor, type FieldEntry } from '@shared/schemas/reading'
 import { evaluateChecklist, physicalBoundsProblem, type FieldEvaluation } from '@shared/rules'
 import type { AnyDesignPoint } from '@shared/schemas/design-point'
@@ -21,9 +22,8 @@ import { AppError } from '../errors/app-error'
 import { ChecklistTemplate, Equipment, Project, Reading, Run, RunChange, RunStep, Signature, TemplateVersion, User } from '../entities'
 import { fieldErrors } from '../middleware/validate'
 import { recordAudit } from './audit.service'
-import { signatureRecord } from './signing.service'
+import { attachmentViews, displayNames, findingViews, keptSnapshot, readingView, signedSnapshotHash, stepView } from './run-record'
 import { systemClock, type Clock } from './clock'
-import type { FindingService } from './finding.service'
 import type { ProjectService } from './project.service'
 
 /** Everything a run is judged with: the pinned definition, the equipment's design point and the project's units. */
@@ -36,15 +36,7 @@ export interface RunContext {
   definition: ChecklistDefinition
 }
 
-type FieldPlace = { field: ChecklistField; stepId: string; sectionId: string }
-
-export function fieldPlaces(definition: ChecklistDefinition): Map<string, FieldPlace> {
-  const places = new Map<string, FieldPlace>()
-  for (const section of definition.sections) {
-    for (const step of section.steps) for (const field of step.fields) places.set(field.id, { field, stepId: step.id, sectionId: section.id })
-  }
-  return places
-}
+export { fieldPlaces, progressOf } from '@shared/record'
 
 /** Evaluates every field of the definition from the stored entries (fields marked not applicable count as empty). */
 export function evaluateAll(ctx: Pick<RunContext, 'definition' | 'equipment' | 'project'>, readings: Reading[], naSteps: Set<string>): Record<string, FieldEvaluation> {
@@ -61,34 +53,6 @@ export function evaluateAll(ctx: Pick<RunContext, 'definition' | 'equipment' | '
   })
 }
 
-/** Counts by verdict over the fields that count: not-applicable ones (field or step) apart. */
-export function progressOf(definition: ChecklistDefinition, readings: Reading[], naSteps: Set<string>): RunProgress {
-  const places = fieldPlaces(definition)
-  const p: RunProgress = { required: 0, answered: 0, pass: 0, marginal: 0, fail: 0, incomplete: 0, notApplicable: 0 }
-  for (const r of readings) {
-    const place = places.get(r.fieldId)
-    if (!place) continue
-    if (r.notApplicable || naSteps.has(place.stepId)) {
-      p.notApplicable += 1
-      continue
-    }
-    const required = place.field.required !== false
-    if (r.verdict === 'incomplete') {
-      if (required) {
-        p.required += 1
-        p.incomplete += 1
-      }
-      continue
-    }
-    if (required) {
-      p.required += 1
-      p.answered += 1
-    }
-    p[r.verdict as 'pass' | 'marginal' | 'fail'] += 1
-  }
-  return p
-}
-
 /** Runs: started on an equipment item from a pinned template version, filled field by field, judged by the shared rules. */
 export class RunService {
   constructor(
@@ -97,13 +61,8 @@ export class RunService {
     private readonly clock: Clock = systemClock,
   ) {}
 
-  findings?: FindingService
-
-  private async names(ids: (string | null)[]): Promise<Map<string, string>> {
-    const wanted = [...new Set(ids.filter((x): x is string => Boolean(x)))]
-    if (!wanted.length) return new Map()
-    const users = await this.db.getRepository(User).findBy({ id: In(wanted) })
-    return new Map(users.map((u) => [u.id, u.displayName]))
+  private names(ids: (string | null)[]): Promise<Map<string, string>> {
+    return displayNames(this.db.manager, ids)
   }
 
   /** Whether `user` may read run data of this state (contractors see only accepted records). */
@@ -244,70 +203,61 @@ export class RunService {
 
   private async readingViews(readings: Reading[]): Promise<Record<string, RunReading>> {
     const names = await this.names(readings.map((r) => r.updatedBy))
-    return Object.fromEntries(
-      readings.map((r) => [
-        r.fieldId,
-        {
-          fieldId: r.fieldId,
-          entry: r.entry as FieldEntry | null,
-          notApplicable: r.notApplicable,
-          naReason: r.naReason,
-          justification: r.justification,
-          evaluation: r.evaluation,
-          version: r.version,
-          updatedAt: r.updatedAt?.toISOString() ?? null,
-          updatedByName: r.updatedBy ? (names.get(r.updatedBy) ?? null) : null,
-        } satisfies RunReading,
-      ]),
-    )
+    return Object.fromEntries(readings.map((r) => [r.fieldId, readingView(r, names)]))
   }
 
   private async stepView(step: RunStep): Promise<RunStepState> {
-    const names = await this.names([step.updatedBy])
-    return {
-      stepId: step.stepId,
-      note: step.note,
-      notApplicable: step.notApplicable,
-      naReason: step.naReason,
-      version: step.version,
-      updatedAt: step.updatedAt?.toISOString() ?? null,
-      updatedByName: step.updatedBy ? (names.get(step.updatedBy) ?? null) : null,
-    }
+    return stepView(step, await this.names([step.updatedBy]))
   }
 
   async detail(user: SessionUser, runId: string): Promise<RunDetail> {
     return this.detailOf(await this.context(user, runId))
   }
 
-  /** The run as the report prints it, for server-side work that acts for nobody in particular (report rendering). */
+  /**
+   * The run as it was signed, for server-side work that acts for nobody in particular (the handover package): the
+   * kept snapshot of an accepted run, with its signatures.
+   */
   async detailForReport(runId: string): Promise<RunDetail> {
     const run = await this.db.getRepository(Run).findOneByOrFail({ id: runId })
-    const manager = this.db.manager
-    const [project, equipment, version] = await Promise.all([
-      manager.getRepository(Project).findOneByOrFail({ id: run.projectId }),
-      manager.getRepository(Equipment).findOneByOrFail({ id: run.equipmentId }),
-      manager.getRepository(TemplateVersion).findOneByOrFail({ id: run.templateVersionId }),
-    ])
-    const template = await manager.getRepository(ChecklistTemplate).findOneByOrFail({ id: version.templateId })
-    return this.detailOf({ run, project, equipment, version, template, definition: version.definition as unknown as ChecklistDefinition })
+    return this.signedDetail(run)
+  }
+
+  private async signatures(runId: string) {
+    return (await this.db.getRepository(Signature).find({ where: { runId }, order: { signedAt: 'ASC', id: 'ASC' } })).map(signatureRecord)
+  }
+
+  /** A submitted or accepted run is what its performer signed: the kept snapshot, never the live tables. */
+  private async signedDetail(run: Run): Promise<RunDetail> {
+    const hash = await signedSnapshotHash(this.db.manager, run.id)
+    if (!hash) throw new AppError('not_signed', 'This run has not been signed', 409)
+    const { snapshot } = await keptSnapshot(this.db.manager, run.id, hash)
+    return runDetailFromSnapshot(snapshot, { state: run.state, version: run.version, updatedAt: run.updatedAt.toISOString(), signatures: await this.signatures(run.id) })
   }
 
   private async detailOf(ctx: RunContext): Promise<RunDetail> {
+    if (!EDITABLE_RUN_STATES.includes(ctx.run.state)) return this.signedDetail(ctx.run)
     const runId = ctx.run.id
-    const [summary] = await this.summaries([ctx.run])
-    const readings = await this.db.getRepository(Reading).findBy({ runId })
-    const steps = await this.db.getRepository(RunStep).findBy({ runId })
-    const stepViews = await Promise.all(steps.map((s) => this.stepView(s)))
+    const manager = this.db.manager
+    const [[summary], readings, steps, findings, attachments, signatures] = await Promise.all([
+      this.summaries([ctx.run]),
+      manager.getRepository(Reading).findBy({ runId }),
+      manager.getRepository(RunStep).findBy({ runId }),
+      findingViews(manager, runId),
+      attachmentViews(manager, runId),
+      this.signatures(runId),
+    ])
+    const names = await this.names([...readings.map((r) => r.updatedBy), ...steps.map((s) => s.updatedBy)])
     return {
       ...summary,
       unitSystem: ctx.project.unitSystem,
       definition: ctx.definition,
       designPoint: ctx.equipment.designPoint,
-      readings: await this.readingViews(readings),
-      steps: Object.fromEntries(stepViews.map((s) => [s.stepId, s])),
-      findings: this.findings ? await this.findings.listViews(runId) : [],
-      attachments: this.findings ? await this.findings.attachmentViews(runId) : [],
-      signatures: (await this.db.getRepository(Signature).find({ where: { runId }, order: { signedAt: 'ASC' } })).map(signatureRecord),
+      readings: Object.fromEntries(readings.map((r) => [r.fieldId, readingView(r, names)])),
+      steps: Object.fromEntries(steps.map((s) => [s.stepId, stepView(s, names)])),
+      findings,
+      attachments,
+      signatures,
     }
   }
 
@@ -315,7 +265,8 @@ export class RunService {
   async setReading(user: SessionUser, runId: string, fieldId: string, input: ReadingChangeInput): Promise<ReadingSaved> {
     const outcome = await this.db.transaction(async (tx) => {
       const ctx = await this.context(user, runId, tx, true)
-      if (await tx.getRepository(RunChange).existsBy({ id: input.changeId })) return { duplicate: true }
+      assertAuthor(user, input.authorId)
+      if (await tx.getRepository(RunChange).existsBy({ id: input.changeId, runId, target: 'reading', targetId: fieldId })) return { duplicate: true }
       this.assertCanEdit(user, ctx)
       const place = fieldPlaces(ctx.definition).get(fieldId)
       if (!place) {
@@ -336,6 +287,7 @@ export class RunService {
         }
         const impossible = physicalBoundsProblem(field, entry)
         if (impossible) throw new AppError('invalid_reading', impossible, 400, { [fieldId]: impossible })
+        if (field.kind === 'photo') await assertOwnPhotos(tx, runId, place.stepId, fieldId, field.label, entry)
       }
       const repo = tx.getRepository(Reading)
       const current = await repo.findOneByOrFail({ runId, fieldId })
@@ -405,7 +357,8 @@ export class RunService {
   async setStep(user: SessionUser, runId: string, stepId: string, input: StepChangeInput): Promise<RunStepState> {
     await this.db.transaction(async (tx) => {
       const ctx = await this.context(user, runId, tx, true)
-      if (await tx.getRepository(RunChange).existsBy({ id: input.changeId })) return
+      assertAuthor(user, input.authorId)
+      if (await tx.getRepository(RunChange).existsBy({ id: input.changeId, runId, target: 'step', targetId: stepId })) return
       this.assertCanEdit(user, ctx)
       const repo = tx.getRepository(RunStep)
       const step = await repo.findOneBy({ runId, stepId })
@@ -456,4 +409,30 @@ function describeEntry(entry: Record<string, unknown> | null): string {
   const v = entry.value
   if (typeof v === 'boolean') return v ? 'yes' : 'no'
   return typeof v === 'string' ? v : 'a new value'
+}
+
+/** A change queued on a shared device carries its author; it is applied only under that person's own session. */
+function assertAuthor(user: SessionUser, authorId: string | undefined) {
+  if (authorId !== undefined && authorId !== user.id) {
+    throw new AppError('author_mismatch', 'This change was made by another person signed in on this device; it is sent only when that person signs in again', 409, { authorId: 'Not the signed-in person' })
+  }
+}
+
+/** A photo field names only photos taken for it: attachments of this run and this field (or, unassigned, its step). */
+async function assertOwnPhotos(tx: EntityManager, runId: string, stepId: string, fieldId: string, label: string, entry: FieldEntry) {
+  const ids = (entry as { value: unknown }).value as string[]
+  const uuid = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i
+  const wellFormed = ids.filter((id) => uuid.test(id))
+  const found: { id: string }[] = wellFormed.length
+    ? await tx.query(
+        `SELECT id FROM run_attachment WHERE id = ANY($1::uuid[]) AND run_id = $2 AND (field_id = $3 OR (field_id IS NULL AND step_id = $4))`,
+        [wellFormed, runId, fieldId, stepId],
+      )
+    : []
+  const known = new Set(found.map((r) => r.id))
+  const foreign = ids.filter((id) => !known.has(id))
+  if (foreign.length) {
+    const message = `${label}: ${foreign.length === 1 ? 'a photo' : `${foreign.length} photos`} named here ${foreign.length === 1 ? 'is' : 'are'} not attached to this field of this run; take or attach the photo here`
+    throw new AppError('foreign_attachment', message, 400, { [fieldId]: message, 'entry.value': message })
+  }
 }

@@ -2,7 +2,7 @@ import { createHash } from 'node:crypto'
 import type { DataSource } from 'typeorm'
 import { verifySealedPdf, type SealVerification } from '../reports'
 import { AppError } from '../errors/app-error'
-import { localTime } from './signing.service'
+import { localTime } from '@shared/record'
 import type { PublicReportFacts, VerifyAnswer, VerifyOutcome } from '@shared/types/verify'
 
 export type { PublicReportFacts, VerifyAnswer, VerifyOutcome }
@@ -23,13 +23,12 @@ interface ReportRow {
   ready_at: Date
 }
 
+// Everything Verify says comes from the report row, which keeps what the signed snapshot named at acceptance: a later
+// rename of the equipment or the project changes nothing here.
 const FACTS_SQL = `
-  SELECT r.id, r.report_number, run.equipment_id, v.template_id, e.tag, p.name AS project_name, p.time_zone, r.ready_at,
-         (SELECT max(s.signed_at) FROM signature s WHERE s.run_id = run.id AND s.meaning = 'accepted_by' AND NOT s.voided) AS accepted_at,
-         (SELECT count(*)::int FROM reading x WHERE x.run_id = run.id AND x.verdict = 'fail' AND NOT x.not_applicable) AS fails,
-         (SELECT count(*)::int FROM reading x WHERE x.run_id = run.id AND x.verdict = 'marginal' AND NOT x.not_applicable) AS marginals
-    FROM report r JOIN run ON run.id = r.run_id JOIN equipment e ON e.id = run.equipment_id
-    JOIN project p ON p.id = run.project_id JOIN template_version v ON v.id = run.template_version_id
+  SELECT r.id, r.report_number, r.equipment_id, r.template_id, r.equipment_tag AS tag, r.project_name, r.time_zone, r.ready_at,
+         r.accepted_at, r.fail_count AS fails, r.marginal_count AS marginals
+    FROM report r
    WHERE r.status = 'ready'`
 
 function facts(row: ReportRow): PublicReportFacts {
@@ -50,7 +49,7 @@ export class VerifyService {
   private async successor(row: ReportRow): Promise<ReportRow | null> {
     // By acceptance, as the archive orders them: reports are rendered in queue order, which need not be the order of acceptance.
     const [newer] = (await this.db.query(
-      `${FACTS_SQL} AND run.equipment_id = $1 AND v.template_id = $2
+      `${FACTS_SQL} AND r.equipment_id = $1 AND r.template_id = $2
          AND r.accepted_at > (SELECT o.accepted_at FROM report o WHERE o.id = $3) ORDER BY r.accepted_at DESC LIMIT 1`,
       [row.equipment_id, row.template_id, row.id],
     )) as ReportRow[]

@@ -1,4 +1,5 @@
 import * as yup from 'yup'
+import { changesSomething, editVersionSchema } from './edit'
 
 const uuid = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i
 const uuidString = () => yup.string().required('${path} is required').matches(uuid, '${path} must be a UUID')
@@ -17,6 +18,12 @@ export const stepParamsSchema = runParamsSchema.shape({
 const reason = yup.string().trim().max(2000, '${path} must be at most 2000 characters')
 
 /**
+ * The signed-in person who made a change (queued offline, it may be sent much later): the server refuses a change whose
+ * author is not the session's user, so a shared tablet never sends one person's work under another's name.
+ */
+const authorId = yup.string().matches(uuid, '${path} must be a UUID').optional()
+
+/**
  * `PUT /api/runs/:runId/readings/:fieldId`. `changeId` makes a retry harmless; `baseVersion` is the field version the
  * change was made on (0 for a field nobody has set), so a change made on stale data is a conflict, never an overwrite.
  * The entry itself is checked against the field's own schema on the server (`entrySchemaFor`).
@@ -24,6 +31,7 @@ const reason = yup.string().trim().max(2000, '${path} must be at most 2000 chara
 export const readingChangeSchema = yup
   .object({
     changeId: uuidString(),
+    authorId,
     baseVersion: yup.number().typeError('${path} must be a number').integer().min(0).required('${path} is required'),
     entry: yup.mixed().nullable().default(null),
     notApplicable: yup.boolean().strict().default(false),
@@ -41,6 +49,7 @@ export type ReadingChangeInput = yup.InferType<typeof readingChangeSchema>
 export const stepChangeSchema = yup
   .object({
     changeId: uuidString(),
+    authorId,
     baseVersion: yup.number().typeError('${path} must be a number').integer().min(0).required('${path} is required'),
     note: yup.string().max(8000, '${path} must be at most 8000 characters').default(''),
     notApplicable: yup.boolean().strict().default(false),
@@ -66,9 +75,13 @@ export const findingCreateSchema = yup
   .noUnknown()
 export type FindingCreateInput = yup.InferType<typeof findingCreateSchema>
 
-/** `PATCH /api/runs/:runId/findings/:findingId`: edit, resolve (with how) or reopen. */
+/**
+ * `PATCH /api/runs/:runId/findings/:findingId`: edit, resolve (with how) or reopen, with the finding's `version` the edit
+ * was made on; an edit made on an older version is refused (409 `edit_conflict`).
+ */
 export const findingUpdateSchema = yup
   .object({
+    version: editVersionSchema,
     severity: yup.mixed<(typeof FINDING_SEVERITIES)[number]>().oneOf([...FINDING_SEVERITIES], 'Severity must be minor, major or critical').optional(),
     description: yup.string().trim().min(1, 'Describe the deficiency').max(4000).optional(),
     status: yup.mixed<'open' | 'resolved'>().oneOf(['open', 'resolved'], 'Status must be open or resolved').optional(),
@@ -79,7 +92,7 @@ export const findingUpdateSchema = yup
     if (v?.status !== 'resolved' || (v.resolution && v.resolution.trim())) return true
     return this.createError({ path: 'resolution', message: 'Say how it was resolved' })
   })
-  .test('not-empty', 'Give at least one field to change', (v) => v != null && Object.values(v).some((x) => x !== undefined))
+  .test('not-empty', 'Give at least one field to change', (v) => changesSomething(v))
 export type FindingUpdateInput = yup.InferType<typeof findingUpdateSchema>
 
 export const findingParamsSchema = runParamsSchema.shape({ findingId: uuidString() })

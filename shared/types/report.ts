@@ -1,4 +1,4 @@
-import type { EquipmentDetail, ProjectSummary } from './api'
+import type { RecordEquipment, RecordProject } from '../record/snapshot'
 import type { RunDetail } from './run'
 
 /** DESIGN.md §7 and 21 CFR Part 11 §11.50: a signature states who, in which role, when, and what it means. */
@@ -30,10 +30,13 @@ export interface ReportInput {
   reportNumber: string
   organizationName: string
   paper: 'A4' | 'Letter'
-  project: ProjectSummary
-  equipment: EquipmentDetail
+  /** The project and the equipment as the signed snapshot names them. */
+  project: RecordProject
+  equipment: RecordEquipment
   run: RunDetail
   signatures: SignatureRecord[]
+  /** SHA-256 of the signed snapshot the report is rendered from: the hash both signatures carry. */
+  snapshotSha256: string
   /** Absolute URL printed under the QR code, e.g. https://startproof.example/verify/<reportNumber>. */
   verifyUrl: string
   /** SHA-256 (hex) of the report content (canonical JSON of this input without this field), printed in the verification block. */

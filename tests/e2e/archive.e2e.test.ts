@@ -7,6 +7,7 @@ import type { Page } from 'puppeteer-core'
 import type { ArchiveItem, ArchivePage } from '@shared/types/archive'
 import { demoPerson, signIn, startProduct, type RunningProduct } from '../helpers/product'
 import { unzip } from '../helpers/zip'
+import { SIGNATURE } from '../helpers/runs'
 
 let product: RunningProduct
 let downloads: string
@@ -24,9 +25,6 @@ afterAll(async () => {
 
 const sel = (test: string) => `[data-test="${test}"]`
 const sha256 = (data: Buffer) => createHash('sha256').update(data).digest('hex')
-// A small valid PNG standing in for a drawn signature when runs are signed through the API.
-const SIGNATURE =
-  'data:image/png;base64,iVBORw0KGgoAAAANSUhEUgAAABAAAAAQCAYAAAAf8/9hAAAAQ0lEQVR42mNkYPhfz0AEYBxVSF+FDAwM/4kxgGQDGBkZ/hNjAMkGMDIy/CfGAJINYGRk+E+MASQbwMjI8J8YA0g2AADmdwgRvY7J2wAAAABJRU5ErkJggg=='
 
 /** A page in a browser context of its own whose downloads land in `folder`. */
 async function pageSavingTo(folder: string): Promise<Page> {

@@ -1,6 +1,7 @@
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
+import pg from 'pg'
 import { inject } from 'vitest'
 import request from 'supertest'
 import type { Express } from 'express'
@@ -8,6 +9,7 @@ import type { DataSource } from 'typeorm'
 import type { Role } from '@shared/types/roles'
 import { loadConfig, type Config } from '../../server/config'
 import { createApp } from '../../server/app'
+import { createAppServices, type AppServices } from '../../server/services'
 import { createDataSource } from '../../server/db/data-source'
 import { Organization, Project, ProjectMember, User } from '../../server/entities'
 import { hashPassword } from '../../server/auth/passwords'
@@ -16,6 +18,8 @@ export interface TestContext {
   db: DataSource
   config: Config
   app: Express
+  /** The services the app was built with (the same objects its routes call). */
+  services: AppServices
   close(): Promise<void>
 }
 
@@ -31,10 +35,12 @@ export async function createTestContext(env: Record<string, string> = {}): Promi
   })
   const db = createDataSource(config.DATABASE_URL, { poolSize: 4 })
   await db.initialize()
+  const services = createAppServices(config, db)
   return {
     db,
     config,
-    app: createApp({ config, db }),
+    app: createApp({ config, db, services }),
+    services,
     async close() {
       await db.destroy()
       fs.rmSync(storageDir, { recursive: true, force: true })
@@ -42,13 +48,33 @@ export async function createTestContext(env: Record<string, string> = {}): Promi
   }
 }
 
-/** Empties every table the tests write to; each test file then inserts its own rows. */
+/**
+ * Runs `work` on a connection of the database owner, for what the application role may not do: TRUNCATE, test-only
+ * triggers and functions. `database` defaults to the tests' own; a DataSource names the database it is connected to.
+ */
+export async function asOwner<T>(work: (client: pg.Client) => Promise<T>, database?: DataSource | string): Promise<T> {
+  const url = new URL(inject('ownerDatabaseUrl'))
+  if (database) url.pathname = `/${typeof database === 'string' ? database : new URL(String((database.options as { url?: string }).url)).pathname.slice(1)}`
+  const client = new pg.Client({ connectionString: url.toString(), application_name: 'startproof-test-owner' })
+  await client.connect()
+  try {
+    return await work(client)
+  } finally {
+    await client.end()
+  }
+}
+
+/**
+ * Empties every table the tests write to, in `db`'s database; each test file then inserts its own rows. As the owner:
+ * the application role may not truncate, and audit_event refuses DELETE by trigger.
+ */
 export async function resetDatabase(db: DataSource): Promise<void> {
-  await db.query(
-    `TRUNCATE closeout_document, report, outbound_mail, signature, run_attachment, finding, run_change, run_step, reading, run, template_version, checklist_template, equipment, attachment, project_member, project, app_user, organization, session, rate_limit RESTART IDENTITY CASCADE`,
-  )
-  // audit_event refuses DELETE and UPDATE by trigger, and TRUNCATE is the administrator's way to clear a test database.
-  await db.query(`TRUNCATE audit_event`)
+  await asOwner(async (owner) => {
+    await owner.query(
+      `TRUNCATE closeout_document, report, outbound_mail, run_snapshot, signature, run_attachment, finding, run_change, run_step, reading, run, template_version, checklist_template, equipment, attachment, project_member, project, app_user, organization, session, rate_limit RESTART IDENTITY CASCADE`,
+    )
+    await owner.query(`TRUNCATE audit_event`)
+  }, db)
 }
 
 let counter = 0

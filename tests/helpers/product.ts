@@ -1,8 +1,9 @@
 import { inject } from 'vitest'
 import type { Page } from 'puppeteer-core'
 import { loadConfig } from '../../server/config'
-import { databaseUrl, ensureDatabase, freePort } from '../../server/db/cluster'
+import { appDatabaseUrl, databaseUrl, ensureDatabase, freePort } from '../../server/db/cluster'
 import { createDataSource } from '../../server/db/data-source'
+import { migrateDatabase } from '../../server/db/migrate'
 import { DEMO_PEOPLE, loadDemoData } from '../../server/db/demo-data'
 import { startServer, type RunningServer } from '../../server/index'
 import { launchChromium } from './browser'
@@ -23,10 +24,11 @@ export async function startProduct(database: string, options: { history?: boolea
   ensureDatabase(pg.bin, pg.port, database)
   const url = databaseUrl(pg.port, database)
   const db = createDataSource(url, { poolSize: 2 })
+  // As npm start does: migrations, clean-up and demo data as the owner; the server connects as the application role.
+  await migrateDatabase({ migrationUrl: url, appRole: inject('appRole') })
   await db.initialize()
-  await db.runMigrations({ transaction: 'each' })
   await db.query(
-    `TRUNCATE closeout_document, report, outbound_mail, signature, run_attachment, finding, run_change, run_step, reading, run, template_version, checklist_template, equipment, attachment, project_member, project, app_user, organization, session, rate_limit CASCADE`,
+    `TRUNCATE closeout_document, report, outbound_mail, run_snapshot, signature, run_attachment, finding, run_change, run_step, reading, run, template_version, checklist_template, equipment, attachment, project_member, project, app_user, organization, session, rate_limit CASCADE`,
   )
   await db.query(`TRUNCATE audit_event`)
   // Without the three years of demo history unless asked: it takes a minute to load and its reports would render behind the test.
@@ -37,7 +39,7 @@ export async function startProduct(database: string, options: { history?: boolea
   const storage = `/tmp/startproof-e2e-files-${database}`
   const certs = `/tmp/startproof-e2e-certs-${database}`
   const server = await startServer(
-    loadConfig({ NODE_ENV: 'test', DATABASE_URL: url, PORT: String(port), HOST: '127.0.0.1', CLIENT_DIST: inject('clientDist'), STORAGE_DIR: storage, CERT_DIR: certs }),
+    loadConfig({ NODE_ENV: 'test', DATABASE_URL: appDatabaseUrl(pg.port, database), MIGRATION_DATABASE_URL: url, PORT: String(port), HOST: '127.0.0.1', CLIENT_DIST: inject('clientDist'), STORAGE_DIR: storage, CERT_DIR: certs }),
   )
   const browser = await launchChromium()
   return {

@@ -1,14 +1,14 @@
+import fs from 'node:fs'
+import path from 'node:path'
 import { randomUUID } from 'node:crypto'
 import type request from 'supertest'
 import { installStarterLibrary } from '../../server/services/starter-library'
 import { designPoint } from '../shared/fixtures'
 import { makeOrganization, makeProject, makeUser, signedInAgent, TEST_PASSWORD, type TestContext } from './context'
 
-// A 2×2 PNG drawn by signature_pad would be larger; this is a valid PNG of the right type for the API.
-export const SIGNATURE = `data:image/png;base64,${Buffer.from(
-  'iVBORw0KGgoAAAANSUhEUgAAABAAAAAQCAYAAAAf8/9hAAAAQ0lEQVR42mNkYPhfz0AEYBxVSF+FDAwM/4kxgGQDGBkZ/hNjAMkGMDIy/CfGAJINYGRk+E+MASQbwMjI8J8YA0g2AADmdwgRvY7J2wAAAABJRU5ErkJggg==',
-  'base64',
-).toString('base64')}`
+// A stroke drawn on a 300×100 pad (about 3 % of its pixels carry ink), and a pad with nothing drawn on it.
+export const SIGNATURE = `data:image/png;base64,${fs.readFileSync(path.join(import.meta.dirname, 'signature-drawn.png')).toString('base64')}`
+export const BLANK_SIGNATURE = `data:image/png;base64,${fs.readFileSync(path.join(import.meta.dirname, 'signature-blank.png')).toString('base64')}`
 
 export const chiller = { tag: 'CH-7', kind: 'centrifugal_chiller', manufacturer: 'Test Works', model: 'TW-500', serialNumber: 'TW-7', designPoint }
 

@@ -5,7 +5,7 @@ import { createTestContext, makeUser, resetDatabase, signedInAgent, type TestCon
 import { issueReport, makeSignable, readyRun } from '../helpers/runs'
 
 let ctx: TestContext
-const services = () => ctx.app.locals.services as { reports: ReportService; renderer: ReportRenderer }
+const services = () => ctx.services
 
 beforeAll(async () => {
   ctx = await createTestContext({ CERT_DIR: `/tmp/startproof-archive-certs-${process.pid}` })

@@ -7,7 +7,8 @@ import request from 'supertest'
 import { ReportQueue } from '../../server/jobs/report-queue'
 import type { ReportRenderer, ReportService } from '../../server/services/report.service'
 import { DEMO_HISTORY, DEMO_PEOPLE, isEmpty, loadDemoData } from '../../server/db/demo-data'
-import { localTime, runSnapshot } from '../../server/services/signing.service'
+import { localTime } from '@shared/record'
+import { keep, liveSnapshot } from '../../server/services/run-record'
 import { createTestContext, resetDatabase, type TestContext } from '../helpers/context'
 
 let ctx: TestContext
@@ -15,7 +16,7 @@ let summary: Awaited<ReturnType<typeof loadDemoData>>
 const loadedAt = new Date()
 
 const certDir = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-demo-certs-'))
-const services = () => ctx.app.locals.services as { reports: ReportService; renderer: ReportRenderer }
+const services = () => ctx.services
 
 beforeAll(async () => {
   ctx = await createTestContext({ CERT_DIR: certDir })
@@ -84,7 +85,7 @@ describe('demo data', () => {
       const sigs = await q<{ meaning: string; snapshot_sha256: string; printed_name: string; role: string; image_data_url: string; signed_at: Date }>(
         `SELECT meaning, snapshot_sha256, printed_name, role, image_data_url, signed_at FROM signature WHERE run_id = $1 AND NOT voided ORDER BY signed_at`, [id])
       expect(sigs.map((s) => s.meaning)).toEqual(['performed_by', 'accepted_by'])
-      const { sha256 } = await runSnapshot(ctx.db.manager, id)
+      const { sha256 } = keep(await liveSnapshot(ctx.db.manager, id))
       for (const s of sigs) {
         expect(s.snapshot_sha256).toBe(sha256)
         expect(s.image_data_url).toMatch(/^data:image\/png;base64,iVBORw0KGgo/)
@@ -186,8 +187,8 @@ describe('starter library', () => {
 
 describe('the demo archive at first start', () => {
   it('when the report queue starts, then every demo report is queued behind anything accepted live, and a rendered one prints the back-dated signatures', async () => {
-    const queue = new ReportQueue(ctx.config.DATABASE_URL, services().reports, { work: false })
-    await queue.start()
+    const queue = new ReportQueue(ctx.config.DATABASE_URL, { work: false })
+    await queue.start(services().reports)
     try {
       const [{ n }] = await ctx.db.query(`SELECT count(DISTINCT singleton_key)::int AS n FROM pgboss.job WHERE name = 'report-render' AND state = 'created' AND priority = 0`)
       expect(n).toBe(DEMO_HISTORY.length)

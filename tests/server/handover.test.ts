@@ -9,7 +9,7 @@ import { chiller, issueReport, makeSignable, readyRun } from '../helpers/runs'
 import { binary, unzip } from '../helpers/zip'
 
 let ctx: TestContext
-const services = () => ctx.app.locals.services as { reports: ReportService; renderer: ReportRenderer }
+const services = () => ctx.services
 
 beforeAll(async () => {
   ctx = await createTestContext({ CERT_DIR: `/tmp/startproof-handover-certs-${process.pid}`, CLOSEOUT_MAX_MB: '1' })

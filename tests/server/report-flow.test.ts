@@ -13,7 +13,7 @@ import { readyRun, sign } from '../helpers/runs'
 let ctx: TestContext
 let capture: Awaited<ReturnType<typeof startSmtpCapture>>
 let certDir: string
-const services = (c: TestContext) => c.app.locals.services as { mail: MailService; reports: ReportService; renderer: ReportRenderer }
+const services = (c: TestContext) => c.services
 
 beforeAll(async () => {
   capture = await startSmtpCapture()
@@ -119,8 +119,8 @@ describe('the sealed handover report', () => {
   }, 60_000)
 
   it('when the job queue runs, then acceptance alone leads to a ready report', async () => {
-    const queue = new ReportQueue(inject('databaseUrl'), services(ctx).reports)
-    await queue.start()
+    const queue = services(ctx).queue
+    await queue.start(services(ctx).reports)
     try {
       const s = await acceptedRun(ctx)
       let status = 'pending'

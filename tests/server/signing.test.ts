@@ -7,7 +7,7 @@ import { readyRun as readyRunIn, sign, SIGNATURE, snapshotOf } from '../helpers/
 
 let ctx: TestContext
 let capture: Awaited<ReturnType<typeof startSmtpCapture>>
-const mail = () => (ctx.app.locals.services as { mail: MailService }).mail
+const mail = () => ctx.services.mail
 
 beforeAll(async () => {
   capture = await startSmtpCapture()

@@ -7,7 +7,7 @@ import { issueReport, makeSignable, readyRun, sign } from '../helpers/runs'
 import { binary } from '../helpers/zip'
 
 let ctx: TestContext
-const services = () => ctx.app.locals.services as { reports: ReportService; renderer: ReportRenderer }
+const services = () => ctx.services
 
 beforeAll(async () => {
   ctx = await createTestContext({ CERT_DIR: `/tmp/startproof-verify-certs-${process.pid}` })

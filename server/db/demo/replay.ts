@@ -8,12 +8,8 @@ import type { RunDetail } from '@shared/types/run'
 import { OutboundMail } from '../../entities'
 import type { MailService, QueuedMail } from '../../mail/mail.service'
 import type { StorageService } from '../../storage/storage'
-import { EquipmentService } from '../../services/equipment.service'
-import { FindingService } from '../../services/finding.service'
-import { ProjectService } from '../../services/project.service'
-import { ReportService } from '../../services/report.service'
-import { fieldPlaces, RunService } from '../../services/run.service'
-import { SigningService } from '../../services/signing.service'
+import { fieldPlaces } from '@shared/record'
+import { createServices } from '../../services'
 import type { RunPlan } from './history'
 import { chillerRun, pumpRun, type DesignValues, type Rng } from './readings'
 
@@ -87,22 +83,16 @@ const noFiles = new Proxy({}, {
 }) as StorageService
 
 export function demoServices(db: DataSource, clock: DemoClock) {
-  const projects = new ProjectService(db)
-  const runs = new RunService(db, projects, clock.now)
-  const findings = new FindingService(db, runs, noFiles, clock.now)
-  runs.findings = findings
-  const mail = historicMail(clock)
-  const signing = new SigningService(db, runs, findings, mail, 'http://localhost:3000', clock.now)
-  const equipment = new EquipmentService(db, projects, noFiles)
-  const reports = new ReportService(db, {
-    runs, projects, equipment, signing, storage: noFiles, mail, publicUrl: 'http://localhost:3000', clock: clock.now,
+  const { projects, runs, findings, signing, reports } = createServices({
+    db,
+    publicUrl: 'http://localhost:3000',
+    storage: noFiles,
+    mail: historicMail(clock),
+    clock: clock.now,
     renderer: () => {
       throw new Error('demo reports are rendered by the report queue when the product starts')
     },
   })
-  signing.onAccepted = async (runId) => {
-    await reports.requestFor(runId)
-  }
   return { projects, runs, findings, signing, reports }
 }
 export type DemoServices = ReturnType<typeof demoServices>

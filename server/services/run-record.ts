@@ -1,0 +1,160 @@
+import { createHash } from 'node:crypto'
+import { In, type EntityManager } from 'typeorm'
+import type { ChecklistDefinition } from '@shared/schemas/checklist'
+import type { FieldEntry } from '@shared/schemas/reading'
+import { buildRunSnapshot, canonicalSnapshot, parseRunSnapshot, type RunSnapshot } from '@shared/record'
+import type { FindingSummary, RunAttachment as RunAttachmentView, RunReading, RunStepState } from '@shared/types/run'
+import { ChecklistTemplate, Equipment, Finding, Organization, Project, Reading, Run, RunAttachment, RunSnapshotRow, RunStep, Signature, TemplateVersion, User } from '../entities'
+
+/**
+ * Reading and keeping the record of a run: the live views of its readings, steps, findings and files (as the runner
+ * shows them), the snapshot built from them, and the signed snapshot kept in `run_snapshot`. Every function takes the
+ * EntityManager of the caller's transaction.
+ */
+
+export const sha256Hex = (text: string) => createHash('sha256').update(text).digest('hex')
+
+export async function displayNames(manager: EntityManager, ids: (string | null)[]): Promise<Map<string, string>> {
+  const wanted = [...new Set(ids.filter((x): x is string => Boolean(x)))]
+  if (!wanted.length) return new Map()
+  const users = await manager.getRepository(User).find({ where: { id: In(wanted) }, select: { id: true, displayName: true } })
+  return new Map(users.map((u) => [u.id, u.displayName]))
+}
+
+export function readingView(r: Reading, names: Map<string, string>): RunReading {
+  return {
+    fieldId: r.fieldId,
+    entry: r.entry as FieldEntry | null,
+    notApplicable: r.notApplicable,
+    naReason: r.naReason,
+    justification: r.justification,
+    evaluation: r.evaluation,
+    version: r.version,
+    updatedAt: r.updatedAt?.toISOString() ?? null,
+    updatedByName: r.updatedBy ? (names.get(r.updatedBy) ?? null) : null,
+  }
+}
+
+export function stepView(s: RunStep, names: Map<string, string>): RunStepState {
+  return {
+    stepId: s.stepId,
+    note: s.note,
+    notApplicable: s.notApplicable,
+    naReason: s.naReason,
+    version: s.version,
+    updatedAt: s.updatedAt?.toISOString() ?? null,
+    updatedByName: s.updatedBy ? (names.get(s.updatedBy) ?? null) : null,
+  }
+}
+
+export async function findingViews(manager: EntityManager, runId: string): Promise<FindingSummary[]> {
+  const [findings, links] = await Promise.all([
+    manager.getRepository(Finding).find({ where: { runId }, order: { createdAt: 'ASC', id: 'ASC' } }),
+    manager.getRepository(RunAttachment).find({ where: { runId }, select: { id: true, findingId: true }, order: { createdAt: 'ASC', id: 'ASC' } }),
+  ])
+  const names = await displayNames(manager, findings.flatMap((f) => [f.createdBy, f.resolvedBy]))
+  return findings.map((f) => ({
+    id: f.id,
+    runId: f.runId,
+    stepId: f.stepId,
+    fieldId: f.fieldId,
+    severity: f.severity,
+    description: f.description,
+    status: f.status,
+    resolution: f.resolution,
+    resolvedAt: f.resolvedAt?.toISOString() ?? null,
+    resolvedByName: f.resolvedBy ? (names.get(f.resolvedBy) ?? null) : null,
+    createdAt: f.createdAt.toISOString(),
+    createdByName: f.createdBy ? (names.get(f.createdBy) ?? null) : null,
+    attachmentIds: links.filter((l) => l.findingId === f.id).map((l) => l.id),
+  }))
+}
+
+export async function attachmentViews(manager: EntityManager, runId: string): Promise<RunAttachmentView[]> {
+  const links = await manager.getRepository(RunAttachment).find({ where: { runId }, relations: { attachment: true }, order: { createdAt: 'ASC', id: 'ASC' } })
+  return links.map((l) => ({
+    id: l.id,
+    sha256: l.attachment.sha256,
+    mimeType: l.attachment.mimeType,
+    sizeBytes: l.attachment.sizeBytes,
+    originalName: l.attachment.originalName,
+    createdAt: l.createdAt.toISOString(),
+    stepId: l.stepId,
+    fieldId: l.fieldId,
+    findingId: l.findingId,
+    url: `/api/runs/${runId}/attachments/${l.id}`,
+    thumbnailUrl: l.thumbnailKey ? `/api/runs/${runId}/attachments/${l.id}?thumbnail=1` : null,
+  }))
+}
+
+/** The run as it stands in the live tables, as a snapshot (what a performer would sign now). */
+export async function liveSnapshot(manager: EntityManager, runId: string): Promise<RunSnapshot> {
+  const run = await manager.getRepository(Run).findOneByOrFail({ id: runId })
+  const [project, equipment, version, readings, steps, findings, attachments] = await Promise.all([
+    manager.getRepository(Project).findOneByOrFail({ id: run.projectId }),
+    manager.getRepository(Equipment).findOneByOrFail({ id: run.equipmentId }),
+    manager.getRepository(TemplateVersion).findOneByOrFail({ id: run.templateVersionId }),
+    manager.getRepository(Reading).find({ where: { runId }, order: { fieldId: 'ASC' } }),
+    manager.getRepository(RunStep).find({ where: { runId }, order: { stepId: 'ASC' } }),
+    findingViews(manager, runId),
+    attachmentViews(manager, runId),
+  ])
+  const [template, organization] = await Promise.all([
+    manager.getRepository(ChecklistTemplate).findOneByOrFail({ id: version.templateId }),
+    manager.getRepository(Organization).findOneByOrFail({ id: project.organizationId }),
+  ])
+  const names = await displayNames(manager, [run.startedBy, ...readings.map((r) => r.updatedBy), ...steps.map((s) => s.updatedBy)])
+  return buildRunSnapshot({
+    run: {
+      id: run.id,
+      projectId: run.projectId,
+      equipmentId: run.equipmentId,
+      templateId: template.id,
+      templateName: template.name,
+      templateVersionId: version.id,
+      templateVersionNumber: version.number,
+      startedAt: run.startedAt.toISOString(),
+      startedByName: run.startedBy ? (names.get(run.startedBy) ?? null) : null,
+    },
+    definition: version.definition as unknown as ChecklistDefinition,
+    project: { ...project, organizationName: organization.name },
+    equipment: { ...equipment, designPoint: equipment.designPoint as Record<string, unknown> },
+    readings: readings.map((r) => readingView(r, names)),
+    steps: steps.map((s) => stepView(s, names)),
+    findings,
+    attachments,
+  })
+}
+
+export interface KeptSnapshot {
+  snapshot: RunSnapshot
+  json: string
+  sha256: string
+}
+
+export function keep(snapshot: RunSnapshot): KeptSnapshot {
+  const json = canonicalSnapshot(snapshot)
+  return { snapshot, json, sha256: sha256Hex(json) }
+}
+
+/** Stores a snapshot that is being signed (once per run and hash). */
+export async function storeSnapshot(manager: EntityManager, runId: string, kept: KeptSnapshot, userId: string | null): Promise<void> {
+  await manager.query(`INSERT INTO run_snapshot (run_id, sha256, content, created_by) VALUES ($1, $2, $3, $4) ON CONFLICT (run_id, sha256) DO NOTHING`, [runId, kept.sha256, kept.json, userId])
+}
+
+export class SnapshotIntegrityError extends Error {}
+
+/** A kept snapshot by its hash, with the hash of its bytes checked again: a snapshot that does not hash to its name is refused. */
+export async function keptSnapshot(manager: EntityManager, runId: string, sha256: string): Promise<KeptSnapshot> {
+  const row = await manager.getRepository(RunSnapshotRow).findOneBy({ runId, sha256 })
+  if (!row) throw new SnapshotIntegrityError(`run ${runId} has no kept snapshot ${sha256}`)
+  const actual = sha256Hex(row.content)
+  if (actual !== sha256) throw new SnapshotIntegrityError(`the kept snapshot of run ${runId} hashes to ${actual}, not to the signed ${sha256}`)
+  return { snapshot: parseRunSnapshot(row.content), json: row.content, sha256 }
+}
+
+/** The live performer signature's snapshot hash: the record a submitted or accepted run is shown and issued from. */
+export async function signedSnapshotHash(manager: EntityManager, runId: string): Promise<string | null> {
+  const performer = await manager.getRepository(Signature).findOne({ where: { runId, meaning: 'performed_by', voided: false }, select: { id: true, snapshotSha256: true } })
+  return performer?.snapshotSha256 ?? null
+}

@@ -1,0 +1,3 @@
+export * from './counting'
+export * from './signature'
+export * from './snapshot'

@@ -1,0 +1,186 @@
+import canonicalize from 'canonicalize'
+import type { ChecklistDefinition } from '../schemas/checklist'
+import type { SignatureRecord } from '../types/report'
+import type { FindingSummary, RunAttachment, RunDetail, RunReading, RunState, RunStepState } from '../types/run'
+import { progressOf } from './counting'
+
+/**
+ * The signed snapshot of a run: everything its verdicts and its report depend on, frozen when the performer signs.
+ * Its canonical JSON (RFC 8785) is hashed with SHA-256 and that hash is what both signatures carry; after acceptance
+ * the run page, the report, the archive row, the handover package and Verify read this, never the live tables.
+ */
+export const SNAPSHOT_FORMAT = 'startproof.run-snapshot'
+export const SNAPSHOT_VERSION = 1
+
+/** The project as the record names it: identity, site, units, time zone and report paper. */
+export interface RecordProject {
+  id: string
+  code: string
+  name: string
+  organizationName: string
+  siteName: string
+  siteAddress: string
+  timeZone: string
+  unitSystem: 'IP' | 'SI'
+  reportPaper: 'A4' | 'Letter'
+}
+
+/** The equipment as the record names it: nameplate and design point (canonical SI values). */
+export interface RecordEquipment {
+  id: string
+  projectId: string
+  tag: string
+  kind: string
+  location: string
+  manufacturer: string
+  model: string
+  serialNumber: string
+  yearBuilt: number | null
+  refrigerant: string | null
+  designPoint: Record<string, unknown>
+}
+
+export interface RecordRun {
+  id: string
+  projectId: string
+  equipmentId: string
+  templateId: string
+  templateName: string
+  templateVersionId: string
+  templateVersionNumber: number
+  startedAt: string
+  startedByName: string | null
+}
+
+export interface RunSnapshot {
+  format: typeof SNAPSHOT_FORMAT
+  version: typeof SNAPSHOT_VERSION
+  run: RecordRun
+  /** The pinned checklist version's definition, whole. */
+  definition: ChecklistDefinition
+  project: RecordProject
+  equipment: RecordEquipment
+  readings: Record<string, RunReading>
+  steps: Record<string, RunStepState>
+  /** In the order they were recorded (F1, F2 … in the report). */
+  findings: FindingSummary[]
+  /** With each file's SHA-256: the evidence is named by its bytes. */
+  attachments: RunAttachment[]
+}
+
+export interface SnapshotParts {
+  run: RecordRun
+  definition: ChecklistDefinition
+  project: RecordProject
+  equipment: RecordEquipment
+  readings: Iterable<RunReading>
+  steps: Iterable<RunStepState>
+  findings: FindingSummary[]
+  attachments: RunAttachment[]
+}
+
+const pick = <T extends object, K extends keyof T>(o: T, keys: readonly K[]): Pick<T, K> => Object.fromEntries(keys.map((k) => [k, o[k]])) as Pick<T, K>
+
+const PROJECT_KEYS = ['id', 'code', 'name', 'organizationName', 'siteName', 'siteAddress', 'timeZone', 'unitSystem', 'reportPaper'] as const
+const EQUIPMENT_KEYS = ['id', 'projectId', 'tag', 'kind', 'location', 'manufacturer', 'model', 'serialNumber', 'yearBuilt', 'refrigerant', 'designPoint'] as const
+const RUN_KEYS = ['id', 'projectId', 'equipmentId', 'templateId', 'templateName', 'templateVersionId', 'templateVersionNumber', 'startedAt', 'startedByName'] as const
+const READING_KEYS = ['fieldId', 'entry', 'notApplicable', 'naReason', 'justification', 'evaluation', 'version', 'updatedAt', 'updatedByName'] as const
+const STEP_KEYS = ['stepId', 'note', 'notApplicable', 'naReason', 'version', 'updatedAt', 'updatedByName'] as const
+const FINDING_KEYS = ['id', 'runId', 'stepId', 'fieldId', 'severity', 'description', 'status', 'resolution', 'resolvedAt', 'resolvedByName', 'createdAt', 'createdByName', 'attachmentIds'] as const
+const ATTACHMENT_KEYS = ['id', 'sha256', 'mimeType', 'sizeBytes', 'originalName', 'createdAt', 'stepId', 'fieldId', 'findingId', 'url', 'thumbnailUrl'] as const
+
+/** Builds the snapshot from plain parts, keeping only what the record holds (nothing that changes with other runs). */
+export function buildRunSnapshot(parts: SnapshotParts): RunSnapshot {
+  const readings: Record<string, RunReading> = {}
+  for (const r of parts.readings) readings[r.fieldId] = pick(r, READING_KEYS)
+  const steps: Record<string, RunStepState> = {}
+  for (const s of parts.steps) steps[s.stepId] = pick(s, STEP_KEYS)
+  // JSON has no undefined: a value the parts leave out is stored as null, so a snapshot read back hashes the same.
+  const clean = <T>(value: T): T => JSON.parse(JSON.stringify(value, (_k, v) => (v === undefined ? null : v))) as T
+  return clean({
+    format: SNAPSHOT_FORMAT,
+    version: SNAPSHOT_VERSION,
+    run: pick(parts.run, RUN_KEYS),
+    definition: parts.definition,
+    project: pick(parts.project, PROJECT_KEYS),
+    equipment: pick(parts.equipment, EQUIPMENT_KEYS),
+    readings,
+    steps,
+    findings: parts.findings.map((f) => pick(f, FINDING_KEYS)),
+    attachments: parts.attachments.map((a) => pick(a, ATTACHMENT_KEYS)),
+  })
+}
+
+/** The exact bytes that are hashed and kept: RFC 8785 canonical JSON. */
+export function canonicalSnapshot(snapshot: RunSnapshot): string {
+  return canonicalize(snapshot) as string
+}
+
+/** Reads a kept snapshot back; refuses anything that is not one. */
+export function parseRunSnapshot(json: string): RunSnapshot {
+  const value = JSON.parse(json) as RunSnapshot
+  if (value?.format !== SNAPSHOT_FORMAT || value.version !== SNAPSHOT_VERSION) throw new Error('not a run snapshot of a known format')
+  return value
+}
+
+const same = (a: unknown, b: unknown) => canonicalize(a) === canonicalize(b)
+
+/**
+ * What differs between the snapshot that was signed and the run as it stands now, in words for the person who is
+ * refused ("the equipment's design point: designFlow", "reading oilPressureRunning").
+ */
+export function describeSnapshotChanges(signed: RunSnapshot, now: RunSnapshot): string[] {
+  const changes: string[] = []
+  const fieldsOf = (a: Record<string, unknown>, b: Record<string, unknown>) => [...new Set([...Object.keys(a), ...Object.keys(b)])].filter((k) => !same(a[k], b[k])).sort()
+  if (!same(signed.run, now.run) || !same(signed.definition, now.definition)) changes.push('the run or its checklist version')
+  for (const key of fieldsOf(signed.project as unknown as Record<string, unknown>, now.project as unknown as Record<string, unknown>)) {
+    changes.push(`the project's ${key} (${String((signed.project as unknown as Record<string, unknown>)[key])} → ${String((now.project as unknown as Record<string, unknown>)[key])})`)
+  }
+  const { designPoint: dpSigned, ...eqSigned } = signed.equipment
+  const { designPoint: dpNow, ...eqNow } = now.equipment
+  for (const key of fieldsOf(eqSigned, eqNow)) {
+    changes.push(`the equipment's ${key} (${String((eqSigned as Record<string, unknown>)[key])} → ${String((eqNow as Record<string, unknown>)[key])})`)
+  }
+  const dp = fieldsOf(dpSigned, dpNow)
+  if (dp.length) changes.push(`the equipment's design point: ${dp.join(', ')}`)
+  const readings = fieldsOf(signed.readings, now.readings)
+  if (readings.length) changes.push(`${readings.length === 1 ? 'reading' : 'readings'} ${readings.join(', ')}`)
+  const steps = fieldsOf(signed.steps, now.steps)
+  if (steps.length) changes.push(`${steps.length === 1 ? 'step' : 'steps'} ${steps.join(', ')}`)
+  if (!same(signed.findings, now.findings)) changes.push('the findings')
+  if (!same(signed.attachments, now.attachments)) changes.push('the photos and files')
+  return changes
+}
+
+/** The run as every screen and the report show it after signing: the snapshot, with the run's state and signatures. */
+export function runDetailFromSnapshot(s: RunSnapshot, live: { state: RunState; version: number; updatedAt: string; signatures: SignatureRecord[] }): RunDetail {
+  const naSteps = new Set(Object.values(s.steps).filter((x) => x.notApplicable).map((x) => x.stepId))
+  const counted = Object.values(s.readings).map((r) => ({ fieldId: r.fieldId, verdict: r.evaluation.verdict, notApplicable: r.notApplicable }))
+  return {
+    id: s.run.id,
+    projectId: s.run.projectId,
+    projectCode: s.project.code,
+    projectName: s.project.name,
+    equipmentId: s.run.equipmentId,
+    equipmentTag: s.equipment.tag,
+    equipmentKind: s.equipment.kind,
+    templateId: s.run.templateId,
+    templateName: s.run.templateName,
+    templateVersionNumber: s.run.templateVersionNumber,
+    state: live.state,
+    version: live.version,
+    startedAt: s.run.startedAt,
+    startedByName: s.run.startedByName,
+    updatedAt: live.updatedAt,
+    progress: progressOf(s.definition, counted, naSteps),
+    openFindings: s.findings.filter((f) => f.status === 'open').length,
+    unitSystem: s.project.unitSystem,
+    definition: s.definition,
+    designPoint: s.equipment.designPoint,
+    readings: s.readings,
+    steps: s.steps,
+    findings: s.findings,
+    attachments: s.attachments,
+    signatures: live.signatures,
+  }
+}
