@@ -12,6 +12,7 @@ import { archiveQuerySchema } from '@shared/schemas/archive'
 import type { SessionUser } from '@shared/types/api'
 import { startThrowawayCluster } from '../server/db/cluster'
 import { createDataSource } from '../server/db/data-source'
+import { migrateDatabase } from '../server/db/migrate'
 import { ArchiveService } from '../server/services/archive.service'
 import { fillArchive } from './lib/archive-fill'
 
@@ -130,9 +131,10 @@ async function main() {
   let db: DataSource | null = null
   process.once('SIGINT', () => { cluster.remove(); process.exit(130) })
   try {
+    // As the owner throughout: the fill, VACUUM and the candidate indexes are the administrator's work, not the app's.
+    await migrateDatabase({ migrationUrl: url, appRole: cluster.appRole })
     db = createDataSource(url, { poolSize: 2 })
     await db.initialize()
-    await db.runMigrations({ transaction: 'each' })
     const [{ server_version: version }] = await db.query(`SHOW server_version`)
     console.log(`PostgreSQL ${version} on 127.0.0.1:${port} (${dataDir}); migrations applied`)
 

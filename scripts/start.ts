@@ -1,7 +1,9 @@
 /**
  * `npm start` (and `npm run dev` with --dev): a local PostgreSQL of the project's own on 127.0.0.1,
  * migrations, demo data on an empty database, the client built when its sources changed, then the server.
- * With DATABASE_URL set, the local cluster is skipped and that database is used as it is.
+ * The local cluster has two roles: its superuser owns the tables and runs the migrations and the demo load, and the
+ * server connects as the application role (rows only; see server/db/migrate.ts). With DATABASE_URL set, the local
+ * cluster is skipped and that database is used as it is (MIGRATION_DATABASE_URL, when set, for the migrations).
  */
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process'
 import { createHash } from 'node:crypto'
@@ -9,7 +11,9 @@ import fs from 'node:fs'
 import path from 'node:path'
 import { ConfigError, loadConfig } from '../server/config'
 import {
+  appDatabaseUrl,
   databaseUrl,
+  ensureAppRole,
   ensureDatabase,
   ensurePostgresInstalled,
   initCluster,
@@ -22,6 +26,7 @@ import {
   UnreachableDirError,
 } from '../server/db/cluster'
 import { createDataSource } from '../server/db/data-source'
+import { migrateDatabase, migrationTarget, type MigrateOptions } from '../server/db/migrate'
 import { isEmpty, loadDemoData } from '../server/db/demo-data'
 import { startServer, type RunningServer } from '../server/index'
 import { startSmtpCapture } from '../server/mail/smtp-capture'
@@ -57,7 +62,7 @@ function clusterFolder(): { base: string; dataDir: string } {
   }
 }
 
-async function prepareLocalCluster(): Promise<{ url: string; cluster: LocalCluster }> {
+async function prepareLocalCluster(): Promise<{ url: string; ownerUrl: string; cluster: LocalCluster }> {
   const bin = ensurePostgresInstalled(log)
   const port = Number(process.env.STARTPROOF_PG_PORT ?? 54329)
   if (!Number.isInteger(port) || port < 1024 || port > 65535) throw new ConfigError([`STARTPROOF_PG_PORT must be a port number between 1024 and 65535 (got "${process.env.STARTPROOF_PG_PORT}")`])
@@ -79,21 +84,23 @@ async function prepareLocalCluster(): Promise<{ url: string; cluster: LocalClust
     log(`PostgreSQL is running on 127.0.0.1:${port} (log: ${logFile.startsWith(root) ? path.relative(root, logFile) : logFile})`)
   }
   ensureDatabase(bin, port, 'startproof')
+  ensureAppRole(bin, port)
   process.env.STORAGE_DIR ??= path.join(base, 'files')
   process.env.CERT_DIR ??= path.join(base, 'certs')
-  return { url: databaseUrl(port, 'startproof'), cluster: { bin, dataDir, startedHere } }
+  return { url: appDatabaseUrl(port, 'startproof'), ownerUrl: databaseUrl(port, 'startproof'), cluster: { bin, dataDir, startedHere } }
 }
 
-async function migrateAndSeed(url: string): Promise<void> {
-  const db = createDataSource(url, { poolSize: 2 })
+/** Migrations and the application role's grants, then the demo data on an empty database, all as the owner. */
+async function migrateAndSeed(target: Pick<MigrateOptions, 'migrationUrl' | 'appRole' | 'urlName'>): Promise<void> {
+  const { granted } = await migrateDatabase({ ...target, log })
+  if (granted) log(`the server connects as "${target.appRole}" (rows only); migrations run as the owner`)
+  const db = createDataSource(target.migrationUrl, { poolSize: 2 })
   try {
     await db.initialize()
   } catch (err) {
-    throw new Error(`Cannot connect to the database (${(err as Error).message}). Check DATABASE_URL.`)
+    throw new Error(`Cannot connect to the database (${(err as Error).message}). Check ${target.urlName}.`)
   }
   try {
-    const ran = await db.runMigrations({ transaction: 'each' })
-    if (ran.length) log(`applied migrations: ${ran.map((m) => m.name).join(', ')}`)
     if (await isEmpty(db)) {
       await loadDemoData(db)
       log('loaded the demo data (accounts are listed in README.md)')
@@ -162,7 +169,9 @@ function ensureReportTools(): void {
 async function main() {
   const external = Boolean(process.env.DATABASE_URL)
   ensureReportTools()
-  const { url, cluster } = external ? { url: process.env.DATABASE_URL!, cluster: null } : await prepareLocalCluster()
+  const { url, ownerUrl, cluster } = external
+    ? { url: process.env.DATABASE_URL!, ownerUrl: process.env.MIGRATION_DATABASE_URL, cluster: null }
+    : await prepareLocalCluster()
   // Without a mail relay configured, mail goes to a capture server on loopback; the Outbox page shows what was sent.
   let capture: Awaited<ReturnType<typeof startSmtpCapture>> | null = null
   if (!process.env.SMTP_URL) {
@@ -170,8 +179,8 @@ async function main() {
     process.env.SMTP_URL = capture.url
     log(`mail is captured locally on ${capture.url} (set SMTP_URL to send through a real relay)`)
   }
-  const config = loadConfig({ ...process.env, DATABASE_URL: url, ...(dev ? { PORT: process.env.API_PORT ?? '3001' } : {}) })
-  await migrateAndSeed(url)
+  const config = loadConfig({ ...process.env, DATABASE_URL: url, MIGRATION_DATABASE_URL: ownerUrl, ...(dev ? { PORT: process.env.API_PORT ?? '3001' } : {}) })
+  await migrateAndSeed(migrationTarget(config))
 
   let server: RunningServer | null = null
   const children: ChildProcess[] = []
@@ -202,7 +211,7 @@ async function main() {
   process.on('SIGTERM', () => void stop('SIGTERM'))
 
   if (dev) {
-    const env = { ...process.env, DATABASE_URL: url, PORT: String(config.PORT), NODE_ENV: 'development' }
+    const env = { ...process.env, DATABASE_URL: url, ...(ownerUrl ? { MIGRATION_DATABASE_URL: ownerUrl } : {}), PORT: String(config.PORT), NODE_ENV: 'development' }
     children.push(spawn(path.join(root, 'node_modules/.bin/tsx'), ['watch', '--clear-screen=false', 'server/index.ts'], { cwd: root, env, stdio: 'inherit' }))
     children.push(spawn(path.join(root, 'node_modules/.bin/vite'), [], { cwd: root, env: { ...env, API_PORT: String(config.PORT) }, stdio: 'inherit' }))
     log(`dev: API on http://localhost:${config.PORT}, client with hot reload on http://localhost:5173`)

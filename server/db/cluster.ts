@@ -19,7 +19,10 @@ export interface ClusterOptions {
 
 const isRoot = () => typeof process.getuid === 'function' && process.getuid() === 0
 export const CLUSTER_USER = 'postgres'
+/** The cluster's own superuser: it owns the databases and every table, and runs the migrations. */
 export const DB_SUPERUSER = 'startproof'
+/** The role the application connects as: rows only, no ownership (see server/db/migrate.ts for its grants). */
+export const DB_APP_ROLE = 'startproof_app'
 
 export class ClusterError extends Error {
   constructor(message: string) {
@@ -154,8 +157,29 @@ export function ensureDatabase(bin: string, port: number, database: string): voi
   runPg(bin, 'createdb', ['-h', '127.0.0.1', '-p', String(port), '-U', DB_SUPERUSER, database])
 }
 
+/** The owner's address (migrations, demo data, tests' clean-up). */
 export function databaseUrl(port: number, database: string): string {
   return `postgres://${DB_SUPERUSER}@127.0.0.1:${port}/${database}`
+}
+
+/** The application role's address on the same database. */
+export function appDatabaseUrl(port: number, database: string): string {
+  return `postgres://${DB_APP_ROLE}@127.0.0.1:${port}/${database}`
+}
+
+/**
+ * Creates the application role on the cluster if it is missing: it may log in and nothing else (no superuser, no
+ * CREATEDB, no CREATEROLE). The cluster trusts loopback, so it needs no password here; its table rights are granted
+ * per database by the migrate step. Roles are cluster-wide, so one call serves every database of the cluster.
+ */
+export function ensureAppRole(bin: string, port: number, role: string = DB_APP_ROLE): void {
+  if (!/^[a-z_][a-z0-9_]*$/.test(role)) throw new ClusterError(`"${role}" is not a plain role name`)
+  runPg(bin, 'psql', ['-h', '127.0.0.1', '-p', String(port), '-U', DB_SUPERUSER, '-d', 'postgres', '-v', 'ON_ERROR_STOP=1', '-tAc',
+    `DO $$ BEGIN
+       IF NOT EXISTS (SELECT 1 FROM pg_roles WHERE rolname = '${role}') THEN
+         CREATE ROLE ${role} LOGIN NOSUPERUSER NOCREATEDB NOCREATEROLE NOREPLICATION NOBYPASSRLS;
+       END IF;
+     END $$`])
 }
 
 /** A TCP port on 127.0.0.1 that nothing listens on right now. */
@@ -185,14 +209,18 @@ export interface ThrowawayCluster {
   dataDir: string
   port: number
   logFile: string
+  /** The owner (the cluster's superuser): migrations and anything a test or benchmark does behind the app's back. */
   url: string
+  /** The application role on the same database: what a server process connects as. */
+  appUrl: string
+  appRole: string
   /** Stops the server and removes its folder. */
   remove(): void
 }
 
 /**
- * A throwaway cluster in a new temporary folder on a free loopback port, with `database` created in it, for the
- * tests and the benchmarks. Never for real data (fsync is off).
+ * A throwaway cluster in a new temporary folder on a free loopback port, with `database` and the application role
+ * created in it, for the tests and the benchmarks. Never for real data (fsync is off). The caller migrates.
  */
 export async function startThrowawayCluster(prefix: string, database: string): Promise<ThrowawayCluster> {
   const bin = ensurePostgresInstalled()
@@ -212,9 +240,10 @@ export async function startThrowawayCluster(prefix: string, database: string): P
     initCluster(bin, dataDir)
     startCluster(bin, { dataDir, port, logFile, throwaway: true })
     ensureDatabase(bin, port, database)
+    ensureAppRole(bin, port)
   } catch (err) {
     remove()
     throw err
   }
-  return { bin, dataDir, port, logFile, url: databaseUrl(port, database), remove }
+  return { bin, dataDir, port, logFile, url: databaseUrl(port, database), appUrl: appDatabaseUrl(port, database), appRole: DB_APP_ROLE, remove }
 }

@@ -4,7 +4,7 @@ import { entities } from '../entities'
 import { migrations } from '../migrations'
 
 /** One DataSource for the app, the CLI scripts and the tests; never `synchronize`. */
-export function createDataSource(databaseUrl: string, options: { poolSize?: number } = {}): DataSource {
+export function createDataSource(databaseUrl: string, options: { poolSize?: number; applicationName?: string } = {}): DataSource {
   return new DataSource({
     type: 'postgres',
     url: databaseUrl,
@@ -17,7 +17,7 @@ export function createDataSource(databaseUrl: string, options: { poolSize?: numb
     extra: {
       connectionTimeoutMillis: 5000,
       idleTimeoutMillis: 30000,
-      application_name: 'startproof',
+      application_name: options.applicationName ?? 'startproof',
     },
   })
 }
