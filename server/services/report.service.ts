@@ -81,6 +81,12 @@ export interface ReportServiceDeps {
 
 export class SnapshotMismatchError extends Error {}
 
+/** TypeORM answers an UPDATE … RETURNING on PostgreSQL with `[rows, rowCount]`, a SELECT with the rows. */
+function updatedRows(result: unknown): unknown[] {
+  if (Array.isArray(result) && result.length === 2 && Array.isArray(result[0]) && typeof result[1] === 'number') return result[0]
+  return Array.isArray(result) ? result : []
+}
+
 export interface ReportView {
   id: string
   runId: string
@@ -263,12 +269,12 @@ export class ReportService {
   private async claim(reportId: string): Promise<string | null> {
     const token = randomUUID()
     const lease = this.deps.leaseSeconds ?? 600
-    const rows: { id: string }[] = await this.db.query(
+    const result = await this.db.query(
       `UPDATE report SET claim_token = $2, claimed_until = now() + make_interval(secs => $3)
         WHERE id = $1 AND status = 'pending' AND (claimed_until IS NULL OR claimed_until < now()) RETURNING id`,
       [reportId, token, lease],
     )
-    return rows.length ? token : null
+    return updatedRows(result).length ? token : null
   }
 
   /** The job: claim, render the signed snapshot, seal, archive, mail. A failure is recorded with its reason. */
@@ -285,12 +291,12 @@ export class ReportService {
       await this.db.transaction(async (tx) => {
         const acceptedBy = input.signatures.find((s) => s.meaning === 'accepted_by' && !s.voided)!
         const performedBy = input.signatures.find((s) => s.meaning === 'performed_by' && !s.voided)!
-        const updated: { id: string }[] = await tx.query(
+        const updated = updatedRows(await tx.query(
           `UPDATE report SET status = 'ready', storage_key = $3, sha256 = $4, content_sha256 = $5, size_bytes = $6, seal_info = $7,
                   ready_at = $8, attempts = attempts + 1, last_error = NULL, snapshot_sha256 = $9, claim_token = NULL, claimed_until = NULL
             WHERE id = $1 AND claim_token = $2 AND status = 'pending' RETURNING id`,
           [report.id, token, stored.key, stored.sha256, input.contentSha256, stored.size, JSON.stringify(sealInfo), new Date(), input.snapshotSha256],
-        )
+        ))
         // The claim ran out and another render finished first: its PDF is the record, this one is dropped.
         if (!updated.length) return
         await recordAudit(tx, {
