@@ -96,6 +96,19 @@ export function describeSignRefusal(err: unknown): SignRefusal {
       return { ...none, field: 'password', fieldMessage: `${err.fields.password ?? 'Password is incorrect'}: nothing was signed. Type it again.` }
     case 'invalid_signature_image':
       return { ...none, field: 'signatureImage', fieldMessage: err.fields.signatureImage ?? err.message }
+    case 'blank_signature':
+      // The server's words say how much of the pad must carry ink.
+      return { ...none, field: 'signatureImage', fieldMessage: err.message }
+    case 'same_person':
+      return { ...none, problem: { type: 'error', title: 'You performed this start-up, so you cannot also accept it.', detail: err.message } }
+    case 'snapshot_mismatch':
+      return {
+        ...none,
+        reload: true,
+        problem: { type: 'warning', title: 'What you reviewed is not what the performer signed.', detail: 'The review has been loaded again with the signed record. Check it, then accept again.' },
+      }
+    case 'changed_since_signed':
+      return { ...none, reload: true, problem: { type: 'error', title: 'The run changed after its performer signed it.', detail: err.message } }
     case 'run_changed':
       return {
         ...none,

@@ -19,7 +19,7 @@ import {
   type RunSummary,
 } from '@shared/types/run'
 import { AppError } from '../errors/app-error'
-import { ChecklistTemplate, Equipment, Project, Reading, Run, RunChange, RunStep, Signature, TemplateVersion, User } from '../entities'
+import { ChecklistTemplate, Equipment, Project, Reading, Report, Run, RunChange, RunStep, Signature, TemplateVersion } from '../entities'
 import { fieldErrors } from '../middleware/validate'
 import { recordAudit } from './audit.service'
 import { attachmentViews, displayNames, findingViews, keptSnapshot, readingView, signedSnapshotHash, stepView } from './run-record'
@@ -144,13 +144,15 @@ export class RunService {
   private async summaries(runs: Run[]): Promise<RunSummary[]> {
     if (!runs.length) return []
     const ids = runs.map((r) => r.id)
-    const [projects, equipment, versions, readings, steps, openFindings] = await Promise.all([
+    const [projects, equipment, versions, readings, steps, openFindings, issued] = await Promise.all([
       this.db.getRepository(Project).findBy({ id: In([...new Set(runs.map((r) => r.projectId))]) }),
       this.db.getRepository(Equipment).findBy({ id: In([...new Set(runs.map((r) => r.equipmentId))]) }),
       this.db.getRepository(TemplateVersion).findBy({ id: In([...new Set(runs.map((r) => r.templateVersionId))]) }),
       this.db.getRepository(Reading).find({ where: { runId: In(ids) }, select: { runId: true, fieldId: true, verdict: true, notApplicable: true } }),
       this.db.getRepository(RunStep).find({ where: { runId: In(ids), notApplicable: true }, select: { runId: true, stepId: true } }),
       this.db.query(`SELECT run_id, count(*)::int AS n FROM finding WHERE run_id = ANY($1::uuid[]) AND status = 'open' GROUP BY run_id`, [ids]) as Promise<{ run_id: string; n: number }[]>,
+      // An accepted run is named as it was issued (its report keeps the signed snapshot's identity), not as renamed since.
+      this.db.getRepository(Report).find({ where: { runId: In(ids) }, select: { runId: true, equipmentTag: true, equipmentKind: true, projectCode: true, projectName: true } }),
     ])
     const templates = await this.db.getRepository(ChecklistTemplate).findBy({ id: In([...new Set(versions.map((v) => v.templateId))]) })
     const names = await this.names(runs.map((r) => r.startedBy))
@@ -162,14 +164,15 @@ export class RunService {
       const naSteps = new Set(steps.filter((s) => s.runId === run.id).map((s) => s.stepId))
       const project = pMap.get(run.projectId)!
       const eq = eMap.get(run.equipmentId)!
+      const report = run.state === 'accepted' ? issued.find((r) => r.runId === run.id) : undefined
       return {
         id: run.id,
         projectId: run.projectId,
-        projectCode: project.code,
-        projectName: project.name,
+        projectCode: report?.projectCode ?? project.code,
+        projectName: report?.projectName ?? project.name,
         equipmentId: run.equipmentId,
-        equipmentTag: eq.tag,
-        equipmentKind: eq.kind,
+        equipmentTag: report?.equipmentTag ?? eq.tag,
+        equipmentKind: report?.equipmentKind ?? eq.kind,
         templateId: version.templateId,
         templateName: tMap.get(version.templateId)!.name,
         templateVersionNumber: version.number,

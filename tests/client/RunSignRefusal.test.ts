@@ -52,4 +52,16 @@ describe('MEANING_STATEMENTS', () => {
     expect(MEANING_STATEMENTS.performed_by).toBe('I performed this start-up and the readings are true.')
     expect(MEANING_STATEMENTS.accepted_by).toBe('I witnessed and accept this start-up on behalf of the owner.')
   })
+
+  it('when the pad is blank, the signer performed the run, or the record changed since it was signed, then each refusal is said in its own words', () => {
+    const blank = describeSignRefusal(new ApiError(400, 'blank_signature', 'The signature pad is blank: draw your signature (at least 0.2 % of the pad must carry ink; this drawing has 0.00 %)', { signatureImage: 'Draw your signature in the box, then sign' }))
+    expect(blank).toMatchObject({ field: 'signatureImage', reload: false })
+    expect(blank.fieldMessage).toMatch(/^The signature pad is blank/)
+    const same = describeSignRefusal(new ApiError(409, 'same_person', 'The person who performed a start-up cannot also accept it'))
+    expect(same.problem).toMatchObject({ type: 'error', title: 'You performed this start-up, so you cannot also accept it.' })
+    expect(same.reload).toBe(false)
+    expect(describeSignRefusal(new ApiError(409, 'snapshot_mismatch', 'x')).reload).toBe(true)
+    const changed = describeSignRefusal(new ApiError(409, 'changed_since_signed', "The run is no longer what Ada Tech signed: the equipment's design point: evaporatorWaterFlow changed since."))
+    expect(changed).toMatchObject({ reload: true, problem: { type: 'error', detail: expect.stringContaining('evaporatorWaterFlow') } })
+  })
 })

@@ -166,6 +166,9 @@ describe('after issue nothing follows a rename', () => {
     expect(run).toMatchObject({ equipmentTag: 'CH-7', projectName, state: 'accepted' })
     expect(run.designPoint.evaporatorWaterFlow.value).not.toBe(0.2271)
 
+    const listed = (await s.repAgent.get(`/api/runs?projectId=${s.project.id}`)).body.runs
+    expect(listed.map((r: { equipmentTag: string; projectName: string }) => [r.equipmentTag, r.projectName])).toEqual([['CH-7', projectName]])
+
     const archive = (await s.repAgent.get('/api/archive')).body.items
     expect(archive.map((i: { equipmentTag: string; serialNumber: string; projectName: string }) => [i.equipmentTag, i.serialNumber, i.projectName])).toEqual([['CH-7', 'TW-7', projectName]])
 
