@@ -3,7 +3,8 @@
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
-import { createBrowserPool, ensureOrganisationCertificate, renderReportHtml, renderReportPdfDetailed, sampleReportInput, sealPdf } from '../server/reports'
+import { createBrowserPool, ensureOrganisationCertificate, renderReportHtml, renderReportPdfDetailed, sealPdf } from '../server/reports'
+import { sampleReportInput } from '../tests/fixtures/sample-report'
 
 const runs = Math.max(1, Number(process.argv[2] ?? 10))
 

@@ -7,5 +7,4 @@ export { ensureOrganisationCertificate, createSelfSignedP12, sealPdf, verifySeal
 export type { OrganisationSigner, CertificateOptions, SealOptions, SealVerification } from './seal'
 export { buildReportView, dateTimeIn } from './view-model'
 export type { ReportView } from './view-model'
-export { sampleReportInput } from './sample-report'
 export type { ReportInput, SignatureRecord } from '@shared/types/report'

@@ -2,7 +2,9 @@ import { createHash } from 'node:crypto'
 import { In, type EntityManager } from 'typeorm'
 import type { ChecklistDefinition } from '@shared/schemas/checklist'
 import type { FieldEntry } from '@shared/schemas/reading'
-import { buildRunSnapshot, canonicalSnapshot, parseRunSnapshot, type RunSnapshot } from '@shared/record'
+import { buildRunSnapshot, canonicalSnapshot, fieldPlaces, parseRunSnapshot, type RunSnapshot } from '@shared/record'
+import { evaluateChecklist, type FieldEvaluation } from '@shared/rules'
+import type { AnyDesignPoint } from '@shared/schemas/design-point'
 import type { FindingSummary, RunAttachment as RunAttachmentView, RunReading, RunStepState } from '@shared/types/run'
 import { ChecklistTemplate, Equipment, Finding, Organization, Project, Reading, Run, RunAttachment, RunSnapshotRow, RunStep, Signature, TemplateVersion, User } from '../entities'
 
@@ -11,6 +13,25 @@ import { ChecklistTemplate, Equipment, Finding, Organization, Project, Reading, 
  * shows them), the snapshot built from them, and the signed snapshot kept in `run_snapshot`. Every function takes the
  * EntityManager of the caller's transaction.
  */
+
+/** Evaluates every field of the definition from the stored entries (fields marked not applicable, or in a step marked so, count as empty). */
+export function evaluateAll(
+  ctx: { definition: ChecklistDefinition; equipment: Pick<Equipment, 'designPoint'>; project: Pick<Project, 'unitSystem'> },
+  readings: Pick<Reading, 'fieldId' | 'entry' | 'notApplicable'>[],
+  naSteps: ReadonlySet<string>,
+): Record<string, FieldEvaluation> {
+  const places = fieldPlaces(ctx.definition)
+  const entries: Record<string, FieldEntry | null> = {}
+  for (const r of readings) {
+    const stepNa = naSteps.has(places.get(r.fieldId)?.stepId ?? '')
+    entries[r.fieldId] = r.notApplicable || stepNa ? null : (r.entry as FieldEntry | null)
+  }
+  return evaluateChecklist(ctx.definition, {
+    readings: entries,
+    designPoint: ctx.equipment.designPoint as unknown as AnyDesignPoint,
+    unitSystem: ctx.project.unitSystem,
+  })
+}
 
 export const sha256Hex = (text: string) => createHash('sha256').update(text).digest('hex')
 

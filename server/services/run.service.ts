@@ -4,15 +4,13 @@ import * as yup from 'yup'
 import type { ChecklistDefinition } from '@shared/schemas/checklist'
 import { fieldPlaces, progressOf, runDetailFromSnapshot, signatureRecord } from '@shared/record'
 import { entrySchemaFor, type FieldEntry } from '@shared/schemas/reading'
-import { evaluateChecklist, physicalBoundsProblem, type FieldEvaluation } from '@shared/rules'
-import type { AnyDesignPoint } from '@shared/schemas/design-point'
+import { physicalBoundsProblem } from '@shared/rules'
 import type { ReadingChangeInput, StepChangeInput } from '@shared/schemas/run'
 import type { SessionUser } from '@shared/types/api'
 import {
   EDITABLE_RUN_STATES,
   type ReadingSaved,
   type RunDetail,
-  type RunProgress,
   type RunReading,
   type RunState,
   type RunStepState,
@@ -22,7 +20,7 @@ import { AppError } from '../errors/app-error'
 import { ChecklistTemplate, Equipment, Project, Reading, Report, Run, RunChange, RunStep, Signature, TemplateVersion } from '../entities'
 import { fieldErrors } from '../middleware/validate'
 import { recordAudit } from './audit.service'
-import { attachmentViews, displayNames, findingViews, keptSnapshot, readingView, signedSnapshotHash, stepView } from './run-record'
+import { attachmentViews, displayNames, evaluateAll, findingViews, keptSnapshot, readingView, signedSnapshotHash, stepView } from './run-record'
 import { systemClock, type Clock } from './clock'
 import type { ProjectService } from './project.service'
 
@@ -38,20 +36,7 @@ export interface RunContext {
 
 export { fieldPlaces, progressOf } from '@shared/record'
 
-/** Evaluates every field of the definition from the stored entries (fields marked not applicable count as empty). */
-export function evaluateAll(ctx: Pick<RunContext, 'definition' | 'equipment' | 'project'>, readings: Reading[], naSteps: Set<string>): Record<string, FieldEvaluation> {
-  const places = fieldPlaces(ctx.definition)
-  const entries: Record<string, FieldEntry | null> = {}
-  for (const r of readings) {
-    const stepNa = naSteps.has(places.get(r.fieldId)?.stepId ?? '')
-    entries[r.fieldId] = r.notApplicable || stepNa ? null : (r.entry as FieldEntry | null)
-  }
-  return evaluateChecklist(ctx.definition, {
-    readings: entries,
-    designPoint: ctx.equipment.designPoint as unknown as AnyDesignPoint,
-    unitSystem: ctx.project.unitSystem,
-  })
-}
+export { evaluateAll } from './run-record'
 
 /** Runs: started on an equipment item from a pinned template version, filled field by field, judged by the shared rules. */
 export class RunService {

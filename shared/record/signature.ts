@@ -1,4 +1,4 @@
-import type { SignatureMeaning, SignatureRecord } from '../types/report'
+import type { SignatureMeaning, SignatureRecord } from '../types/signature'
 
 export const MEANING_LABELS: Record<SignatureMeaning, string> = { performed_by: 'Performed by', accepted_by: 'Accepted by' }
 

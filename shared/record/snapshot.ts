@@ -1,6 +1,7 @@
 import canonicalize from 'canonicalize'
 import type { ChecklistDefinition } from '../schemas/checklist'
-import type { SignatureRecord } from '../types/report'
+import type { RecordEquipment, RecordProject, RecordRun } from '../types/record'
+import type { SignatureRecord } from '../types/signature'
 import type { FindingSummary, RunAttachment, RunDetail, RunReading, RunState, RunStepState } from '../types/run'
 import { progressOf } from './counting'
 
@@ -12,45 +13,7 @@ import { progressOf } from './counting'
 export const SNAPSHOT_FORMAT = 'startproof.run-snapshot'
 export const SNAPSHOT_VERSION = 1
 
-/** The project as the record names it: identity, site, units, time zone and report paper. */
-export interface RecordProject {
-  id: string
-  code: string
-  name: string
-  organizationName: string
-  siteName: string
-  siteAddress: string
-  timeZone: string
-  unitSystem: 'IP' | 'SI'
-  reportPaper: 'A4' | 'Letter'
-}
-
-/** The equipment as the record names it: nameplate and design point (canonical SI values). */
-export interface RecordEquipment {
-  id: string
-  projectId: string
-  tag: string
-  kind: string
-  location: string
-  manufacturer: string
-  model: string
-  serialNumber: string
-  yearBuilt: number | null
-  refrigerant: string | null
-  designPoint: Record<string, unknown>
-}
-
-export interface RecordRun {
-  id: string
-  projectId: string
-  equipmentId: string
-  templateId: string
-  templateName: string
-  templateVersionId: string
-  templateVersionNumber: number
-  startedAt: string
-  startedByName: string | null
-}
+export type { RecordEquipment, RecordProject, RecordRun } from '../types/record'
 
 export interface RunSnapshot {
   format: typeof SNAPSHOT_FORMAT

@@ -1,29 +1,8 @@
-import type { RecordEquipment, RecordProject } from '../record/snapshot'
+import type { RecordEquipment, RecordProject } from './record'
 import type { RunDetail } from './run'
+import type { SignatureRecord } from './signature'
 
-/** DESIGN.md §7 and 21 CFR Part 11 §11.50: a signature states who, in which role, when, and what it means. */
-export type SignatureMeaning = 'performed_by' | 'accepted_by'
-
-export interface SignatureRecord {
-  id: string
-  meaning: SignatureMeaning
-  /** The words printed beside the signature: "Performed by" / "Accepted by". */
-  meaningLabel: string
-  signerId: string
-  printedName: string
-  role: string
-  signedAtUtc: string
-  /** The same instant in the project's time zone, written out, e.g. "2026-12-01 16:42 CST". */
-  signedAtLocal: string
-  timeZone: string
-  /** The drawn signature as a PNG data URL (signature_pad). */
-  imageDataUrl: string
-  /** SHA-256 (hex) of the canonical snapshot of the run that was signed. */
-  snapshotSha256: string
-  voided: boolean
-  voidedAt: string | null
-  voidReason: string | null
-}
+export type { SignatureMeaning, SignatureRecord } from './signature'
 
 /** Everything the handover report prints; the renderer reads nothing else. */
 export interface ReportInput {

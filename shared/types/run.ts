@@ -2,7 +2,7 @@ import type { ChecklistDefinition } from '../schemas/checklist'
 import type { FieldEntry } from '../schemas/reading'
 import type { FieldEvaluation } from '../rules/evaluate'
 import type { AttachmentSummary } from './api'
-import type { SignatureRecord } from './report'
+import type { SignatureRecord } from './signature'
 
 /** DESIGN.md §6: in_progress → submitted (performer signed) → accepted, or returned to the technician. */
 export type RunState = 'in_progress' | 'submitted' | 'accepted' | 'returned'
@@ -83,6 +83,8 @@ export interface FindingSummary {
   createdAt: string
   createdByName: string | null
   attachmentIds: string[]
+  /** Edit version: send it back with an edit; one made on an older version is refused (409 `edit_conflict`). */
+  version?: number
 }
 
 export interface RunAttachment extends AttachmentSummary {

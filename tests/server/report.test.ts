@@ -16,12 +16,12 @@ import {
   renderReportHtml,
   renderReportPdf,
   renderReportPdfDetailed,
-  sampleReportInput,
   sealPdf,
   verifySealedPdf,
   type BrowserPool,
   type OrganisationSigner,
 } from '../../server/reports'
+import { sampleReportInput } from '../fixtures/sample-report'
 
 // One browser pool for the whole file; the fixture is the sample chiller run (one fail, one marginal, two findings,
 // a voided signature and two valid ones) with hostile text put into a note, a finding and a signer's role.
