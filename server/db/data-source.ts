@@ -12,6 +12,9 @@ export function createDataSource(databaseUrl: string, options: { poolSize?: numb
     migrations,
     synchronize: false,
     migrationsRun: false,
+    // The migrations make the schema (ids come from gen_random_uuid(), built in); the application role may not create
+    // extensions, and the owner should not get one it never asked for.
+    installExtensions: false,
     logging: ['error', 'warn'],
     poolSize: options.poolSize ?? 10,
     extra: {

@@ -1,7 +1,9 @@
+import path from 'node:path'
+import { fileURLToPath } from 'node:url'
 import pg from 'pg'
 import PgBoss from 'pg-boss'
 import { QUEUE, QUEUE_OPTIONS } from '../jobs/report-queue'
-import type { Config } from '../config'
+import { ConfigError, loadConfig, type Config } from '../config'
 import { createDataSource } from './data-source'
 
 /** Where pg-boss keeps its tables (the report queue uses the same name). */
@@ -84,7 +86,13 @@ export async function migrateDatabase(options: MigrateOptions): Promise<MigrateR
       await lock.query(`SELECT pg_advisory_lock($1::bigint)`, [MIGRATE_LOCK_KEY])
     }
     try {
-      const applied = await runMigrations(migrationUrl)
+      const applied = await runMigrations(migrationUrl).catch((err) => {
+        if ((err as { code?: string }).code !== '42501') throw err
+        throw new Error(
+          `The role of ${urlName} may not change the database's tables (${(err as Error).message}). Migrations run as ` +
+            `the tables' owner: set MIGRATION_DATABASE_URL to the owner's connection (README.md, "PostgreSQL roles").`,
+        )
+      })
       if (applied.length) log(`applied migrations: ${applied.join(', ')}`)
       await preparePgBoss(migrationUrl)
       if (!appRole) return { applied, granted: false, warnings: [] }
@@ -196,4 +204,30 @@ async function grantAppRole(client: pg.Client, appRole: string): Promise<string[
   if (creates.public_create) warnings.push(`"${appRole}" may still create objects in schema public (through a role it belongs to)`)
   if (creates.db_create) warnings.push(`"${appRole}" may create schemas in this database (REVOKE CREATE ON DATABASE … FROM ${r})`)
   return warnings
+}
+
+/**
+ * `npx tsx server/db/migrate.ts`: the migrate step alone, with the server's variables (DATABASE_URL for the
+ * application role, MIGRATION_DATABASE_URL for the owner), e.g. as a release step before servers start that are given
+ * DATABASE_URL only. A server started on a migrated database without MIGRATION_DATABASE_URL finds nothing to change.
+ */
+async function main(): Promise<void> {
+  let config: Config
+  try {
+    config = loadConfig()
+  } catch (err) {
+    if (!(err instanceof ConfigError)) throw err
+    console.error(err.message)
+    process.exit(2)
+  }
+  const target = migrationTarget(config)
+  const { applied, granted } = await migrateDatabase({ ...target, log: (line) => console.log(line) })
+  console.log(`migrate: ${applied.length} migration${applied.length === 1 ? '' : 's'} applied; ${granted ? `rights of "${target.appRole}" applied` : 'no application role to grant (MIGRATION_DATABASE_URL unset or the same role)'}`)
+}
+
+if (process.argv[1] && path.resolve(process.argv[1]) === fileURLToPath(import.meta.url)) {
+  main().catch((err) => {
+    console.error(`migrate: ${(err as Error).message}`)
+    process.exit(1)
+  })
 }
