@@ -54,6 +54,10 @@ export class Equipment {
   @JoinColumn({ name: 'nameplate_photo_id' })
   nameplatePhoto: Relation<Attachment> | null
 
+  /** Edit version: an edit names the version it was made on, and one made on an older version is refused (409). */
+  @Column({ type: 'integer', default: 1 })
+  version: number
+
   @CreateDateColumn({ type: 'timestamptz', name: 'created_at' })
   createdAt: Date
 

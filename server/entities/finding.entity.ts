@@ -34,6 +34,10 @@ export class Finding {
   @Column({ type: 'timestamptz', name: 'resolved_at', nullable: true })
   resolvedAt: Date | null
 
+  /** Edit version: an edit names the version it was made on, and one made on an older version is refused (409). */
+  @Column({ type: 'integer', default: 1 })
+  version: number
+
   @Column({ type: 'uuid', name: 'created_by', nullable: true })
   createdBy: string | null
 

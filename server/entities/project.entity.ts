@@ -49,6 +49,10 @@ export class Project {
   @Column({ type: 'uuid', name: 'closed_by', nullable: true })
   closedById: string | null
 
+  /** Edit version: an edit names the version it was made on, and one made on an older version is refused (409). */
+  @Column({ type: 'integer', default: 1 })
+  version: number
+
   @OneToMany(() => ProjectMember, (m) => m.project)
   members: Relation<ProjectMember[]>
 

@@ -27,6 +27,10 @@ export class TemplateVersion {
   @Column({ type: 'text', nullable: true })
   changelog: string | null
 
+  /** Edit version: an edit names the version it was made on, and one made on an older version is refused (409). */
+  @Column({ type: 'integer', default: 1 })
+  version: number
+
   @Column({ type: 'uuid', name: 'created_by', nullable: true })
   createdBy: string | null
 

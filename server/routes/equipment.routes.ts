@@ -42,8 +42,10 @@ export function equipmentRoutes(config: Config, equipment: EquipmentService, pro
   })
 
   const updateBody = validate((req) => ({ body: equipmentUpdateSchema(item(req).kind as EquipmentKind) }))
+  // Answers the item and what the edit did to its runs (`runs.rejudged`, `runs.voided`); 409 `edit_conflict` or
+  // `affects_signed_runs` otherwise.
   byId.patch('/:equipmentId', admin, validate({ params: equipmentParams }), load, updateBody, async (req, res) => {
-    res.json({ equipment: await equipment.update(item(req), req.body, actor(req)) })
+    res.json(await equipment.update(item(req), req.body, actor(req), { publicUrl: config.PUBLIC_URL }))
   })
 
   byId.delete('/:equipmentId', admin, validate({ params: equipmentParams }), load, async (req, res) => {

@@ -9,8 +9,11 @@ import type { ProjectService } from '../services/project.service'
 const projectParams = yup.object({ projectId: uuidSchema.label('projectId') })
 const memberParams = projectParams.shape({ userId: uuidSchema.label('userId') })
 
-/** `/api/projects`: projects, their people; administrators create, change and remove them. */
-export function projectRoutes(projects: ProjectService): Router {
+/**
+ * `/api/projects`: projects, their people; administrators create, change and remove them. `publicUrl` is the address
+ * put in the mail a technician gets when an edit voids their signature (without it the mail says where to look).
+ */
+export function projectRoutes(projects: ProjectService, options: { publicUrl?: string } = {}): Router {
   const router = Router()
   const admin = requireRole('admin')
   const access = requireProjectAccess(projects)
@@ -28,8 +31,10 @@ export function projectRoutes(projects: ProjectService): Router {
     res.json({ project: await projects.get(String(req.params.projectId)) })
   })
 
+  // Answers the project and what the edit did to its runs (`runs.rejudged`, `runs.voided`); 409 `edit_conflict` or
+  // `affects_signed_runs` otherwise.
   router.patch('/:projectId', admin, validate({ params: projectParams, body: projectUpdateSchema }), access, async (req, res) => {
-    res.json({ project: await projects.update(String(req.params.projectId), req.body, actor(req)) })
+    res.json(await projects.update(String(req.params.projectId), req.body, actor(req), { publicUrl: options.publicUrl }))
   })
 
   router.post('/:projectId/close', admin, validate({ params: projectParams }), access, async (req, res) => {

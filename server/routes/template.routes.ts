@@ -3,6 +3,7 @@ import {
   diffQuerySchema,
   draftCreateSchema,
   draftUpdateSchema,
+  draftValidateSchema,
   publishSchema,
   templateCreateSchema,
   templateParamsSchema,
@@ -28,7 +29,7 @@ export function templateRoutes(templates: TemplateService): Router {
     res.status(201).json({ template: await templates.create(req.body, actor(req)) })
   })
 
-  router.post('/validate', admin, validate({ body: draftUpdateSchema }), async (req, res) => {
+  router.post('/validate', admin, validate({ body: draftValidateSchema }), async (req, res) => {
     res.json(await validateDefinition(req.body.definition))
   })
 
@@ -54,7 +55,7 @@ export function templateRoutes(templates: TemplateService): Router {
   })
 
   router.put('/:templateId/versions/:number', admin, validate({ params: versionParamsSchema, body: draftUpdateSchema }), async (req, res) => {
-    res.json({ version: await templates.updateDraft(...versionArgs(req), req.body.definition, actor(req)) })
+    res.json({ version: await templates.updateDraft(...versionArgs(req), req.body.definition, req.body.version, actor(req)) })
   })
 
   router.delete('/:templateId/versions/:number', admin, validate({ params: versionParamsSchema }), async (req, res) => {

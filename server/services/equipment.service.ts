@@ -1,12 +1,15 @@
 import { DataSource } from 'typeorm'
 import { fileTypeFromBuffer } from 'file-type'
 import type { AttachmentSummary, EquipmentDetail, EquipmentSummary, SessionUser } from '@shared/types/api'
+import type { DesignChangeOutcome } from '@shared/types/design-change'
 import type { EquipmentCreateInput, EquipmentUpdateInput } from '@shared/schemas/equipment'
 import { canonicalDesignPoint } from '@shared/format/design-point'
 import { AppError } from '../errors/app-error'
 import { Attachment, Equipment, Project } from '../entities'
 import type { StorageService } from '../storage/storage'
 import { recordAudit } from './audit.service'
+import { applyDesignChange, EQUIPMENT_IDENTITY, identityKeys, lockOpenRuns, requireConfirmation } from './design-change'
+import { changedKeys, editConflict } from './edit-conflict'
 import type { ProjectService } from './project.service'
 import type { Actor } from './user.service'
 
@@ -30,7 +33,16 @@ function summary(e: Equipment): EquipmentSummary {
     refrigerant: e.refrigerant,
     hasNameplatePhoto: e.nameplatePhotoId !== null,
     updatedAt: e.updatedAt.toISOString(),
+    version: e.version,
   }
+}
+
+/** What the edit form changes, with words for "Sam changed the serial number at 14:02 UTC". */
+const EQUIPMENT_LABELS: Record<string, string> = { ...EQUIPMENT_IDENTITY, notes: 'notes' }
+type EditableFields = Pick<Equipment, 'tag' | 'location' | 'manufacturer' | 'model' | 'serialNumber' | 'yearBuilt' | 'notes' | 'designPoint'>
+
+function editable(e: Equipment): EditableFields {
+  return { tag: e.tag, location: e.location, manufacturer: e.manufacturer, model: e.model, serialNumber: e.serialNumber, yearBuilt: e.yearBuilt, notes: e.notes, designPoint: e.designPoint }
 }
 
 function snapshot(e: Equipment) {
@@ -95,24 +107,58 @@ export class EquipmentService {
     return this.detail({ ...saved, nameplatePhoto: null } as Equipment)
   }
 
-  async update(equipment: Equipment, input: EquipmentUpdateInput, actor: Actor): Promise<EquipmentDetail> {
-    if (input.tag !== undefined) await this.assertTagFree(equipment.projectId, input.tag, equipment.id)
-    await this.db.transaction(async (tx) => {
-      const before = snapshot(equipment)
-      const { designPoint, ...plain } = input
+  private async fresh(id: string): Promise<EquipmentDetail> {
+    return this.detail(await this.db.getRepository(Equipment).findOneOrFail({ where: { id }, relations: { nameplatePhoto: true } }))
+  }
+
+  /**
+   * Edits an item on the version the edit was made on (409 `edit_conflict` when someone changed it since; an edit that
+   * changes nothing is accepted as it is). A change of its tag, nameplate or design point reaches its runs: runs in
+   * progress are re-judged, submitted ones need `confirmVoid` (409 `affects_signed_runs` names them) and then lose the
+   * performer's signature and go back to the technician. Accepted runs are not touched.
+   */
+  async update(equipment: Equipment, input: EquipmentUpdateInput, actor: Actor, links: { publicUrl?: string | null } = {}): Promise<{ equipment: EquipmentDetail; runs: DesignChangeOutcome }> {
+    const runs = await this.db.transaction(async (tx) => {
+      const row = await tx.getRepository(Equipment).findOne({ where: { id: equipment.id }, lock: { mode: 'pessimistic_write' } })
+      if (!row) throw AppError.notFound('Equipment')
+      const { version, confirmVoid, designPoint, ...plain } = input
+      const before = editable(row)
+      const after: EditableFields = { ...before }
       for (const [key, value] of Object.entries(plain)) {
-        if (value !== undefined) (equipment as unknown as Record<string, unknown>)[key] = value
+        if (value !== undefined) (after as unknown as Record<string, unknown>)[key] = value
       }
-      if (designPoint !== undefined) {
-        equipment.designPoint = canonicalDesignPoint(designPoint as Record<string, unknown>)
-        equipment.refrigerant = typeof equipment.designPoint.refrigerant === 'string' ? equipment.designPoint.refrigerant : null
+      if (designPoint !== undefined) after.designPoint = canonicalDesignPoint(designPoint as Record<string, unknown>)
+      const changed = changedKeys(before, after)
+      const none: DesignChangeOutcome = { rejudged: [], voided: [] }
+      if (!changed.length) return none
+      if (row.version !== version) {
+        throw await editConflict(tx, { entityType: 'equipment', entityId: row.id, actions: ['equipment.update'], labels: EQUIPMENT_LABELS, thing: row.tag, viewerId: actor.id, current: await this.fresh(row.id) })
       }
-      const { nameplatePhoto: _photo, project: _project, ...columns } = equipment
-      await tx.getRepository(Equipment).save(columns)
-      await recordAudit(tx, { actorId: actor.id, action: 'equipment.update', entityType: 'equipment', entityId: equipment.id, projectId: equipment.projectId, before, after: snapshot(equipment), ip: actor.ip })
+      if (changed.includes('tag')) await this.assertTagFree(row.projectId, after.tag, row.id)
+      const keys = identityKeys(before, after, EQUIPMENT_IDENTITY)
+      const change = {
+        cause: 'equipment.update' as const,
+        scope: { equipmentId: row.id },
+        subject: row.tag,
+        keys,
+        labels: EQUIPMENT_IDENTITY,
+        before: Object.fromEntries(keys.map((k) => [k, (before as unknown as Record<string, unknown>)[k]])),
+        after: Object.fromEntries(keys.map((k) => [k, (after as unknown as Record<string, unknown>)[k]])),
+        actor,
+        publicUrl: links.publicUrl ?? null,
+      }
+      const open = keys.length ? await lockOpenRuns(tx, { equipmentId: row.id }) : []
+      requireConfirmation(open, confirmVoid, change)
+      const auditBefore = snapshot(row)
+      Object.assign(row, after, {
+        refrigerant: typeof after.designPoint.refrigerant === 'string' ? after.designPoint.refrigerant : null,
+        version: row.version + 1,
+      })
+      await tx.getRepository(Equipment).save(row)
+      await recordAudit(tx, { actorId: actor.id, action: 'equipment.update', entityType: 'equipment', entityId: row.id, projectId: row.projectId, before: auditBefore, after: snapshot(row), ip: actor.ip })
+      return open.length ? applyDesignChange(tx, open, change) : none
     })
-    const fresh = await this.db.getRepository(Equipment).findOneOrFail({ where: { id: equipment.id }, relations: { nameplatePhoto: true } })
-    return this.detail(fresh)
+    return { equipment: await this.fresh(equipment.id), runs }
   }
 
   /** Removes an equipment item; one that runs refer to is refused by the database's foreign keys (409). */

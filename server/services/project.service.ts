@@ -1,10 +1,25 @@
 import { DataSource, In, type EntityManager } from 'typeorm'
 import type { ProjectMemberSummary, ProjectSummary, SessionUser } from '@shared/types/api'
+import type { DesignChangeOutcome } from '@shared/types/design-change'
 import type { ProjectCreateInput, ProjectUpdateInput } from '@shared/schemas/project'
 import { AppError } from '../errors/app-error'
-import { Equipment, Project, ProjectMember, User } from '../entities'
+import { CloseoutDocument, Equipment, Project, ProjectMember, Run, User } from '../entities'
 import { recordAudit } from './audit.service'
+import { applyDesignChange, identityKeys, lockOpenRuns, PROJECT_IDENTITY, requireConfirmation } from './design-change'
+import { changedKeys, editConflict } from './edit-conflict'
 import type { Actor } from './user.service'
+
+/** Words for each field of the project form, for "Sam changed the time zone at 14:02 UTC". */
+const PROJECT_LABELS: Record<string, string> = {
+  code: 'project code',
+  name: 'name',
+  siteName: 'site name',
+  siteAddress: 'site address',
+  timeZone: 'time zone',
+  unitSystem: 'unit system',
+  distributionList: 'distribution list',
+  reportPaper: 'report paper',
+}
 
 type ProjectFields = Pick<Project, 'code' | 'name' | 'siteName' | 'siteAddress' | 'timeZone' | 'unitSystem' | 'distributionList' | 'reportPaper'>
 
@@ -22,8 +37,10 @@ function snapshot(p: Project): ProjectFields {
 }
 
 function toSummary(p: Project, memberCount: number, equipmentCount: number): ProjectSummary {
-  return { id: p.id, ...snapshot(p), closedAt: p.closedAt ? p.closedAt.toISOString() : null, memberCount, equipmentCount }
+  return { id: p.id, ...snapshot(p), closedAt: p.closedAt ? p.closedAt.toISOString() : null, memberCount, equipmentCount, version: p.version }
 }
+
+const plural = (n: number, one: string, many = `${one}s`) => `${n} ${n === 1 ? one : many}`
 
 /** Projects and who may see them: admins see their firm's projects, everyone else only their memberships. */
 export class ProjectService {
@@ -95,19 +112,49 @@ export class ProjectService {
     return this.get(id)
   }
 
-  async update(projectId: string, input: ProjectUpdateInput, actor: Actor): Promise<ProjectSummary> {
-    await this.db.transaction(async (tx) => {
+  /**
+   * Edits a project on the version the edit was made on (409 `edit_conflict` when someone changed it since; an edit
+   * that changes nothing is accepted as it is). A change of its identity, site, units or time zone reaches its runs:
+   * runs in progress are re-judged, submitted ones need `confirmVoid` (409 `affects_signed_runs` names them) and then
+   * lose the performer's signature and go back to the technician. Accepted runs are not touched.
+   */
+  async update(projectId: string, input: ProjectUpdateInput, actor: Actor, links: { publicUrl?: string | null } = {}): Promise<{ project: ProjectSummary; runs: DesignChangeOutcome }> {
+    const runs = await this.db.transaction(async (tx) => {
       const project = await tx.getRepository(Project).findOne({ where: { id: projectId }, lock: { mode: 'pessimistic_write' } })
       if (!project) throw AppError.notFound('Project')
-      if (input.code !== undefined) await this.assertCodeFree(tx, input.code, projectId)
+      const { version, confirmVoid, ...fields } = input
       const before = snapshot(project)
-      for (const [key, value] of Object.entries(input)) {
-        if (value !== undefined) (project as unknown as Record<string, unknown>)[key] = value
+      const after: ProjectFields = { ...before }
+      for (const [key, value] of Object.entries(fields)) {
+        if (value !== undefined) (after as unknown as Record<string, unknown>)[key] = value
       }
+      const changed = changedKeys(before, after)
+      const none: DesignChangeOutcome = { rejudged: [], voided: [] }
+      if (!changed.length) return none
+      if (project.version !== version) {
+        throw await editConflict(tx, { entityType: 'project', entityId: projectId, actions: ['project.update'], labels: PROJECT_LABELS, thing: 'this project', viewerId: actor.id, current: await this.get(projectId) })
+      }
+      if (changed.includes('code')) await this.assertCodeFree(tx, after.code, projectId)
+      const keys = identityKeys(before, after, PROJECT_IDENTITY)
+      const change = {
+        cause: 'project.update' as const,
+        scope: { projectId },
+        subject: `project ${project.code}`,
+        keys,
+        labels: PROJECT_IDENTITY,
+        before: Object.fromEntries(keys.map((k) => [k, (before as unknown as Record<string, unknown>)[k]])),
+        after: Object.fromEntries(keys.map((k) => [k, (after as unknown as Record<string, unknown>)[k]])),
+        actor,
+        publicUrl: links.publicUrl ?? null,
+      }
+      const open = keys.length ? await lockOpenRuns(tx, { projectId }) : []
+      requireConfirmation(open, confirmVoid, change)
+      Object.assign(project, after, { version: project.version + 1 })
       await tx.getRepository(Project).save(project)
       await recordAudit(tx, { actorId: actor.id, action: 'project.update', entityType: 'project', entityId: projectId, projectId, before, after: snapshot(project), ip: actor.ip })
+      return open.length ? applyDesignChange(tx, open, change) : none
     })
-    return this.get(projectId)
+    return { project: await this.get(projectId), runs }
   }
 
   /** Closes a project at handover: no new runs start on it; its reports, documents and members stay as they are. */
@@ -143,18 +190,31 @@ export class ProjectService {
     return this.get(projectId)
   }
 
-  /** Removes a project that holds nothing yet; one with equipment (and so, later, runs and reports) is refused. */
+  /**
+   * Removes a project that holds nothing yet. One with equipment, runs or closeout documents (records that are kept)
+   * is refused with what it holds. Its audit events stay: they keep the project's id as plain data.
+   */
   async remove(projectId: string, actor: Actor): Promise<void> {
     await this.db.transaction(async (tx) => {
       const project = await tx.getRepository(Project).findOne({ where: { id: projectId }, lock: { mode: 'pessimistic_write' } })
       if (!project) throw AppError.notFound('Project')
-      const equipment = await tx.getRepository(Equipment).countBy({ projectId })
+      const [equipment, runs, documents] = await Promise.all([
+        tx.getRepository(Equipment).countBy({ projectId }),
+        tx.getRepository(Run).countBy({ projectId }),
+        tx.getRepository(CloseoutDocument).countBy({ projectId }),
+      ])
+      if (runs > 0) {
+        throw new AppError('project_in_use', `Project ${project.code} has ${plural(equipment, 'equipment item')} and ${plural(runs, 'start-up run')}, which are kept as records; close the project instead. Nothing was deleted.`, 409)
+      }
       if (equipment > 0) {
-        throw new AppError('project_in_use', `Project ${project.code} has ${equipment} equipment item${equipment === 1 ? '' : 's'}; remove them first. Nothing was deleted.`, 409)
+        throw new AppError('project_in_use', `Project ${project.code} has ${plural(equipment, 'equipment item')}; remove them first. Nothing was deleted.`, 409)
+      }
+      if (documents > 0) {
+        throw new AppError('project_in_use', `Project ${project.code} has ${plural(documents, 'closeout document')}, which are kept for retention, so it cannot be deleted; close it instead. Nothing was deleted.`, 409)
       }
       await tx.getRepository(ProjectMember).delete({ projectId })
       await tx.getRepository(Project).delete({ id: projectId })
-      await recordAudit(tx, { actorId: actor.id, action: 'project.delete', entityType: 'project', entityId: projectId, before: snapshot(project), ip: actor.ip })
+      await recordAudit(tx, { actorId: actor.id, action: 'project.delete', entityType: 'project', entityId: projectId, projectId, before: snapshot(project), ip: actor.ip })
     })
   }
 

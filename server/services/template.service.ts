@@ -1,3 +1,4 @@
+import { isDeepStrictEqual } from 'node:util'
 import { DataSource, In, type EntityManager } from 'typeorm'
 import type { SessionUser, TemplateDetail, TemplateSummary, TemplateVersionDetail, TemplateVersionSummary, ValidationIssue } from '@shared/types/api'
 import { validateChecklistDefinition, type ChecklistDefinition } from '@shared/schemas/checklist'
@@ -6,6 +7,7 @@ import { diffDefinitions, type DefinitionDiff } from '@shared/templates'
 import { AppError } from '../errors/app-error'
 import { ChecklistTemplate, TemplateVersion, User } from '../entities'
 import { recordAudit } from './audit.service'
+import { editConflict } from './edit-conflict'
 import type { Actor } from './user.service'
 
 type Def = { sections?: Array<{ steps?: Array<{ fields?: unknown[] }> }> }
@@ -84,6 +86,7 @@ export class TemplateService {
       publishedByName: v.publishedBy ? (names.get(v.publishedBy) ?? null) : null,
       retiredAt: v.retiredAt?.toISOString() ?? null,
       ...counts(v.definition),
+      version: v.version,
     }
   }
 
@@ -225,18 +228,35 @@ export class TemplateService {
     return this.versionDetail(version)
   }
 
-  async updateDraft(templateId: string, number: number, definition: unknown, actor: SessionUser & Actor): Promise<TemplateVersionDetail> {
+  /**
+   * Saves a draft's whole definition on the draft's `version` the edit was made on: a save made on an older version is
+   * refused (409 `edit_conflict` with the draft as it is now); one that changes nothing is accepted as it is.
+   */
+  async updateDraft(templateId: string, number: number, definition: unknown, version: number, actor: SessionUser & Actor): Promise<TemplateVersionDetail> {
     const valid = await requireValidDefinition(definition)
-    const version = await this.db.transaction(async (tx) => {
-      const { version } = await this.findVersion(actor, templateId, number, tx, true)
-      if (version.status !== 'draft') throw frozen(version)
-      const before = counts(version.definition)
-      version.definition = valid as unknown as Record<string, unknown>
-      const saved = await tx.getRepository(TemplateVersion).save(version)
-      await recordAudit(tx, { actorId: actor.id, action: 'template.draft_update', entityType: 'template_version', entityId: version.id, before, after: counts(valid), ip: actor.ip })
+    const saved = await this.db.transaction(async (tx) => {
+      const { version: draft } = await this.findVersion(actor, templateId, number, tx, true)
+      if (draft.status !== 'draft') throw frozen(draft)
+      if (isDeepStrictEqual(JSON.parse(JSON.stringify(valid)), draft.definition)) return draft
+      if (draft.version !== version) {
+        throw await editConflict(tx, {
+          entityType: 'template_version',
+          entityId: draft.id,
+          actions: ['template.draft_update'],
+          labels: {},
+          thing: `draft version ${number}`,
+          viewerId: actor.id,
+          current: await this.versionDetail(draft),
+        })
+      }
+      const before = counts(draft.definition)
+      draft.definition = valid as unknown as Record<string, unknown>
+      draft.version += 1
+      const saved = await tx.getRepository(TemplateVersion).save(draft)
+      await recordAudit(tx, { actorId: actor.id, action: 'template.draft_update', entityType: 'template_version', entityId: draft.id, before: { ...before, version: version }, after: { ...counts(valid), version: saved.version }, ip: actor.ip })
       return saved
     })
-    return this.versionDetail(version)
+    return this.versionDetail(saved)
   }
 
   async discardDraft(templateId: string, number: number, actor: SessionUser & Actor): Promise<void> {

@@ -1,5 +1,6 @@
 import * as yup from 'yup'
 import { EQUIPMENT_KINDS, designPointSchemaFor, type EquipmentKind } from './design-point'
+import { changesSomething, confirmVoidSchema, editVersionSchema } from './edit'
 
 const tag = yup
   .string()
@@ -46,10 +47,16 @@ export const equipmentCreateSchema = yup
   .noUnknown()
 export type EquipmentCreateInput = yup.InferType<typeof equipmentCreateSchema>
 
-/** `PATCH /api/equipment/:equipmentId`: the kind never changes; a design point given replaces the whole one. */
+/**
+ * `PATCH /api/equipment/:equipmentId`: the kind never changes; a design point given replaces the whole one; `version` is
+ * the one the edit was made on. Changing the tag, nameplate or design point re-judges the item's runs in progress; for a
+ * submitted run it voids the performer's signature, so the server asks for `confirmVoid: true` first.
+ */
 export function equipmentUpdateSchema(kind: EquipmentKind) {
   return yup
     .object({
+      version: editVersionSchema,
+      confirmVoid: confirmVoidSchema,
       tag: tag.optional().default(undefined),
       location: nameplate.location.optional().default(undefined),
       manufacturer: nameplate.manufacturer.optional().default(undefined),
@@ -60,6 +67,6 @@ export function equipmentUpdateSchema(kind: EquipmentKind) {
       designPoint: designPointSchemaFor(kind).optional().default(undefined),
     })
     .noUnknown()
-    .test('not-empty', 'Give at least one field to change', (v) => v != null && Object.values(v).some((x) => x !== undefined))
+    .test('not-empty', 'Give at least one field to change', (v) => changesSomething(v))
 }
 export type EquipmentUpdateInput = yup.InferType<ReturnType<typeof equipmentUpdateSchema>>

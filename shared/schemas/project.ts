@@ -1,4 +1,5 @@
 import * as yup from 'yup'
+import { changesSomething, confirmVoidSchema, editVersionSchema } from './edit'
 
 /** Whether `zone` is an IANA time zone this runtime knows (e.g. `America/Chicago`). */
 export function isTimeZone(zone: unknown): boolean {
@@ -44,9 +45,15 @@ const fields = {
 export const projectCreateSchema = yup.object(fields).noUnknown()
 export type ProjectCreateInput = yup.InferType<typeof projectCreateSchema>
 
-/** `PATCH /api/projects/:projectId`: any of the fields, at least one. */
+/**
+ * `PATCH /api/projects/:projectId`: any of the fields, at least one, and the `version` they were edited on. Changing
+ * the name, code, site, units or time zone re-judges the project's runs in progress; for a submitted run it voids the
+ * performer's signature, so the server asks for `confirmVoid: true` first (409 `affects_signed_runs`).
+ */
 export const projectUpdateSchema = yup
   .object({
+    version: editVersionSchema,
+    confirmVoid: confirmVoidSchema,
     code: code.optional().default(undefined),
     name: fields.name.optional().default(undefined),
     siteName: fields.siteName.optional().default(undefined),
@@ -57,5 +64,5 @@ export const projectUpdateSchema = yup
     reportPaper: yup.mixed<'A4' | 'Letter'>().oneOf(['A4', 'Letter'], 'Report paper must be A4 or Letter').optional(),
   })
   .noUnknown()
-  .test('not-empty', 'Give at least one field to change', (v) => v != null && Object.values(v).some((x) => x !== undefined))
+  .test('not-empty', 'Give at least one field to change', (v) => changesSomething(v))
 export type ProjectUpdateInput = yup.InferType<typeof projectUpdateSchema>

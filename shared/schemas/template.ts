@@ -1,4 +1,5 @@
 import * as yup from 'yup'
+import { editVersionSchema } from './edit'
 
 const slug = /^[a-z0-9]+(?:-[a-z0-9]+)*$/
 
@@ -29,8 +30,17 @@ export const templateUpdateSchema = yup
   .test('not-empty', 'Give at least one of name, description', (v) => v != null && Object.values(v).some((x) => x !== undefined))
 export type TemplateUpdateInput = yup.InferType<typeof templateUpdateSchema>
 
-/** `PUT /api/templates/:templateId/versions/:number`: the whole definition of a draft (validated by the checklist schema). */
-export const draftUpdateSchema = yup.object({ definition: yup.mixed().required('definition is required') }).noUnknown()
+/** `POST /api/templates/validate`: a definition to check (validated by the checklist schema), nothing saved. */
+export const draftValidateSchema = yup.object({ definition: yup.mixed().required('definition is required') }).noUnknown()
+
+/**
+ * `PUT /api/templates/:templateId/versions/:number`: the whole definition of a draft (validated by the checklist
+ * schema) and the draft's `version` it was edited on; a save made on an older version is refused (409 `edit_conflict`).
+ */
+export const draftUpdateSchema = yup
+  .object({ definition: yup.mixed().required('definition is required'), version: editVersionSchema })
+  .noUnknown()
+export type DraftUpdateInput = yup.InferType<typeof draftUpdateSchema>
 
 /** `POST /api/templates/:templateId/versions`: open the next draft, copied from `fromNumber` (default: newest version). */
 export const draftCreateSchema = yup

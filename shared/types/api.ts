@@ -46,6 +46,8 @@ export interface ProjectSummary {
   closedAt: string | null
   memberCount: number
   equipmentCount: number
+  /** Edit version: send it back with an edit; an edit made on an older one is refused (409 `edit_conflict`). */
+  version: number
 }
 
 export interface ProjectMemberSummary {
@@ -79,6 +81,8 @@ export interface TemplateVersionSummary {
   sectionCount: number
   stepCount: number
   fieldCount: number
+  /** Edit version of a draft: send it back with a save; a save made on an older one is refused (409 `edit_conflict`). */
+  version: number
 }
 
 export interface TemplateVersionDetail<Definition = unknown> extends TemplateVersionSummary {
@@ -127,6 +131,8 @@ export interface EquipmentSummary {
   refrigerant: string | null
   hasNameplatePhoto: boolean
   updatedAt: string
+  /** Edit version: send it back with an edit; an edit made on an older one is refused (409 `edit_conflict`). */
+  version: number
 }
 
 export interface EquipmentDetail extends EquipmentSummary {

@@ -16,6 +16,7 @@ const project: ProjectSummary = {
   memberCount: 4,
   equipmentCount: 2,
   closedAt: null,
+  version: 1,
 }
 
 const mountCard = (p: ProjectSummary, now: Date) =>

@@ -105,7 +105,7 @@ describe('equipment', () => {
       const agent = await signedInAgent(ctx.app, who)
       expect((await agent.get(`/api/projects/${s.project.id}/equipment`)).body.equipment).toHaveLength(1)
       expect((await agent.get(`/api/equipment/${id}`)).status).toBe(200)
-      expect((await agent.patch(`/api/equipment/${id}`).send({ location: 'x' })).status).toBe(403)
+      expect((await agent.patch(`/api/equipment/${id}`).send({ location: 'x', version: 1 })).status).toBe(403)
       expect((await agent.post(`/api/projects/${s.project.id}/equipment`).send(chiller)).status).toBe(403)
       expect((await agent.delete(`/api/equipment/${id}`)).status).toBe(403)
     }
@@ -121,11 +121,12 @@ describe('equipment', () => {
     const id = created.body.equipment.id
     const dp = { ...chiller.designPoint, refrigerant: 'R-513A', capacity: { value: 550, unit: 'TR' } }
 
-    const res = await s.adminAgent.patch(`/api/equipment/${id}`).send({ serialNumber: 'NRW-24-00918', designPoint: dp })
-    const kindChange = await s.adminAgent.patch(`/api/equipment/${id}`).send({ kind: 'pump' })
+    const res = await s.adminAgent.patch(`/api/equipment/${id}`).send({ serialNumber: 'NRW-24-00918', designPoint: dp, version: 1 })
+    const kindChange = await s.adminAgent.patch(`/api/equipment/${id}`).send({ kind: 'pump', version: 2 })
 
     expect(res.status).toBe(200)
-    expect(res.body.equipment).toMatchObject({ serialNumber: 'NRW-24-00918', refrigerant: 'R-513A' })
+    expect(res.body.equipment).toMatchObject({ serialNumber: 'NRW-24-00918', refrigerant: 'R-513A', version: 2 })
+    expect(res.body.runs).toEqual({ rejudged: [], voided: [] })
     expect(kindChange.status).toBe(400)
     const [event] = await ctx.db.query(`SELECT before, after FROM audit_event WHERE action = 'equipment.update'`)
     expect([event.before.serialNumber, event.after.serialNumber]).toEqual(['NRW-24-00917', 'NRW-24-00918'])

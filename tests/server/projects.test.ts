@@ -126,11 +126,27 @@ describe('project administration', () => {
   it('when an admin edits a project, then before and after are audited', async () => {
     const s = await scenario()
     const agent = await signedInAgent(ctx.app, s.admin)
-    const res = await agent.patch(`/api/projects/${s.mine.id}`).send({ unitSystem: 'SI', distributionList: ['a@b.test'] })
+    const res = await agent.patch(`/api/projects/${s.mine.id}`).send({ unitSystem: 'SI', distributionList: ['a@b.test'], version: 1 })
     expect(res.status).toBe(200)
-    expect(res.body.project).toMatchObject({ unitSystem: 'SI', distributionList: ['a@b.test'] })
+    expect(res.body.project).toMatchObject({ unitSystem: 'SI', distributionList: ['a@b.test'], version: 2 })
+    expect(res.body.runs).toEqual({ rejudged: [], voided: [] })
     const [event] = await ctx.db.query(`SELECT before, after FROM audit_event WHERE action = 'project.update'`)
     expect([event.before.unitSystem, event.after.unitSystem]).toEqual(['IP', 'SI'])
+  })
+
+  it('when an edit leaves out its version or sends a bad one, then 400 names the version field', async () => {
+    const s = await scenario()
+    const agent = await signedInAgent(ctx.app, s.admin)
+    const missing = await agent.patch(`/api/projects/${s.mine.id}`).send({ name: 'Renamed' })
+    const wrong = await agent.patch(`/api/projects/${s.mine.id}`).send({ name: 'Renamed', version: 'one', confirmVoid: 'yes' })
+    const onlyVersion = await agent.patch(`/api/projects/${s.mine.id}`).send({ version: 1 })
+    expect(missing.status).toBe(400)
+    expect(missing.body.error.fields).toEqual({ version: 'version is required: send the version of the record you edited' })
+    expect(wrong.status).toBe(400)
+    expect(wrong.body.error.fields).toEqual({ version: 'version must be a whole number', confirmVoid: 'confirmVoid must be true or false' })
+    expect(onlyVersion.status).toBe(400)
+    expect(onlyVersion.body.error.message).toBe('Give at least one field to change')
+    expect((await agent.get(`/api/projects/${s.mine.id}`)).body.project).toMatchObject({ name: s.mine.name, version: 1 })
   })
 
   it('when an admin adds and removes members, then membership follows and the new member can see the project', async () => {
@@ -149,11 +165,36 @@ describe('project administration', () => {
     expect((await agent.delete(`/api/projects/${s.mine.id}/members/${s.outsider.id}`)).status).toBe(404)
   })
 
-  it('when an empty project is deleted, then it is gone; a missing one answers 404', async () => {
+  it('when an empty project is deleted, then it is gone and audited; a missing one answers 404', async () => {
     const s = await scenario()
     const agent = await signedInAgent(ctx.app, s.admin)
     await agent.delete(`/api/projects/${s.notMine.id}`).expect(204)
     expect((await agent.get(`/api/projects/${s.notMine.id}`)).status).toBe(404)
     expect((await agent.delete(`/api/projects/${s.notMine.id}`)).status).toBe(404)
+    const [event] = await ctx.db.query(`SELECT project_id, entity_id, before FROM audit_event WHERE action = 'project.delete'`)
+    expect(event).toMatchObject({ project_id: s.notMine.id, entity_id: s.notMine.id, before: { code: s.notMine.code } })
+  })
+
+  it('when a project created, edited and staffed through the API is deleted, then 204 and its audit trail keeps its id', async () => {
+    const s = await scenario()
+    const agent = await signedInAgent(ctx.app, s.admin)
+    const created = (await agent.post('/api/projects').send(body).expect(201)).body.project
+    await agent.patch(`/api/projects/${created.id}`).send({ name: 'North wing plant, phase 2', version: created.version }).expect(200)
+    await agent.put(`/api/projects/${created.id}/members/${s.tech.id}`).expect(200)
+
+    const res = await agent.delete(`/api/projects/${created.id}`)
+
+    expect(res.status).toBe(204)
+    expect((await agent.get(`/api/projects/${created.id}`)).status).toBe(404)
+    const events = await ctx.db.query(`SELECT action FROM audit_event WHERE project_id = $1 ORDER BY id`, [created.id])
+    expect(events.map((e: { action: string }) => e.action)).toEqual(['project.create', 'project.update', 'project.member_add', 'project.delete'])
+  })
+
+  it('when the audit trail is asked to change, then the database still refuses it', async () => {
+    const s = await scenario()
+    const agent = await signedInAgent(ctx.app, s.admin)
+    await agent.post('/api/projects').send(body).expect(201)
+    await expect(ctx.db.query(`UPDATE audit_event SET project_id = NULL`)).rejects.toThrow(/append-only/)
+    await expect(ctx.db.query(`DELETE FROM audit_event`)).rejects.toThrow(/append-only/)
   })
 })

@@ -271,10 +271,10 @@ describe('steps, findings, attachments and review', () => {
     expect(after.blockers).not.toContain('Oil pressure (differential) failed and has neither a finding nor a justification')
     expect(after.openFindings).toHaveLength(1)
 
-    const noHow = await s.techAgent.patch(`/api/runs/${run.id}/findings/${created.body.finding.id}`).send({ status: 'resolved' })
+    const noHow = await s.techAgent.patch(`/api/runs/${run.id}/findings/${created.body.finding.id}`).send({ status: 'resolved', version: created.body.finding.version })
     expect(noHow.status).toBe(400)
     expect(noHow.body.error.fields).toEqual({ resolution: 'Say how it was resolved' })
-    const resolved = await s.techAgent.patch(`/api/runs/${run.id}/findings/${created.body.finding.id}`).send({ status: 'resolved', resolution: 'Oil filter changed; 36 psid after' })
+    const resolved = await s.techAgent.patch(`/api/runs/${run.id}/findings/${created.body.finding.id}`).send({ status: 'resolved', resolution: 'Oil filter changed; 36 psid after', version: created.body.finding.version })
     expect(resolved.body.finding).toMatchObject({ status: 'resolved', resolution: 'Oil filter changed; 36 psid after', resolvedByName: 'Ada Tech' })
     const bad = await s.techAgent.post(`/api/runs/${run.id}/findings`).send({ stepId: 'oil-running', severity: 'awful', description: '' })
     expect(bad.status).toBe(400)

@@ -125,7 +125,7 @@ describe('/api/templates', () => {
     const { adminAgent } = await firm()
     const id = await publishedTemplate(adminAgent)
 
-    const put = await adminAgent.put(`/api/templates/${id}/versions/1`).send({ definition: definition(130) })
+    const put = await adminAgent.put(`/api/templates/${id}/versions/1`).send({ definition: definition(130), version: 1 })
     const del = await adminAgent.delete(`/api/templates/${id}/versions/1`)
     const again = await adminAgent.post(`/api/templates/${id}/versions/1/publish`).send({ changelog: 'again' })
 
@@ -167,7 +167,7 @@ describe('/api/templates', () => {
 
     const draft = await adminAgent.post(`/api/templates/${id}/versions`).send({})
     const second = await adminAgent.post(`/api/templates/${id}/versions`).send({})
-    const updated = await adminAgent.put(`/api/templates/${id}/versions/2`).send({ definition: definition(125) })
+    const updated = await adminAgent.put(`/api/templates/${id}/versions/2`).send({ definition: definition(125), version: 1 })
 
     expect(draft.status).toBe(201)
     expect(draft.body.version).toMatchObject({ number: 2, status: 'draft' })
@@ -175,6 +175,7 @@ describe('/api/templates', () => {
     expect(second.body.error).toMatchObject({ code: 'draft_exists' })
     expect(second.body.error.message).toMatch(/Version 2 is already an open draft/)
     expect(updated.status).toBe(200)
+    expect(updated.body.version).toMatchObject({ number: 2, version: 2 })
     expect(updated.body.version.definition.sections[0].steps[0].fields[0].rule.max).toBe(125)
     const detail = await adminAgent.get(`/api/templates/${id}`)
     expect(detail.body.template).toMatchObject({ latestPublishedNumber: 1, draftNumber: 2 })
@@ -188,7 +189,7 @@ describe('/api/templates', () => {
     const bad = definition()
     bad.sections[0].steps[0].fields[0].unit = 'psig'
 
-    const res = await adminAgent.put(`/api/templates/${id}/versions/2`).send({ definition: bad })
+    const res = await adminAgent.put(`/api/templates/${id}/versions/2`).send({ definition: bad, version: 1 })
 
     expect(res.status).toBe(400)
     expect(res.body.error.fields['sections[0].steps[0].fields[0].unit']).toMatch(/does not measure voltage/)
@@ -241,7 +242,7 @@ describe('/api/templates', () => {
     await adminAgent.post(`/api/templates/${id}/versions`).send({}).expect(201)
     const changed = definition(125)
     changed.sections[0].steps[0].fields.push({ id: 'phaseRotation', label: 'Phase rotation checked', kind: 'yes_no', rule: { type: 'yes_no', expected: true } })
-    await adminAgent.put(`/api/templates/${id}/versions/2`).send({ definition: changed }).expect(200)
+    await adminAgent.put(`/api/templates/${id}/versions/2`).send({ definition: changed, version: 1 }).expect(200)
 
     const res = await adminAgent.get(`/api/templates/${id}/diff?from=1&to=2`)
     const bad = await adminAgent.get(`/api/templates/${id}/diff?from=one&to=2`)

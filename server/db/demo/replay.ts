@@ -207,7 +207,7 @@ export async function fillRun(
             await setReading(fieldId, entry)
           }
           clock.advance(r.between(60, 120))
-          await s.findings.update(ctx.tech.user, run.id, created.id, await findingUpdateSchema.validate({ status: 'resolved', resolution: f.resolve.resolution }))
+          await s.findings.update(ctx.tech.user, run.id, created.id, await findingUpdateSchema.validate({ status: 'resolved', resolution: f.resolve.resolution, version: created.version ?? 1 }))
         }
       }
     }
