@@ -4,7 +4,7 @@ import type { ReportJobs } from '../services/report.service'
 /** What a worker does with a report job, and the sweep that finds reports without one. */
 export interface ReportWork {
   process(reportId: string): Promise<unknown>
-  reconcile(): Promise<{ created: number; queued: number }>
+  reconcile(): Promise<{ created: number; pending: string[] }>
 }
 
 export const QUEUE = 'report-render'
@@ -49,8 +49,9 @@ export class ReportQueue implements ReportJobs {
     // then every few minutes (a report's claim keeps two workers from rendering it at once).
     const runSweep = async () => {
       try {
-        const { created } = await reports.reconcile()
+        const { created, pending } = await reports.reconcile()
         if (created) console.log(`report sweep: created ${created} missing report${created === 1 ? '' : 's'}`)
+        for (const id of pending) await this.enqueue(id, { backlog: true })
       } catch (err) {
         console.error('report sweep:', (err as Error).message)
       }

@@ -61,9 +61,9 @@ export class ArchiveService {
     if (q.equipmentId) add('r.equipment_id = ?', q.equipmentId)
     if (q.templateId) add('r.template_id = ?', q.templateId)
     if (q.technicianId) add('r.technician_id = ?', q.technicianId)
-    // Days are the site's days (the project's time zone), as the page shows them. The wide bound (every zone is within
-    // UTC−12…UTC+14) lets the index narrow the range; the exact test then looks at the local date.
-    const localDay = `((r.accepted_at AT TIME ZONE (SELECT tz.time_zone FROM project tz WHERE tz.id = r.project_id))::date)`
+    // Days are the site's days (the time zone the report was issued in), as the page shows them. The wide bound (every
+    // zone is within UTC−12…UTC+14) lets the index narrow the range; the exact test then looks at the local date.
+    const localDay = `((r.accepted_at AT TIME ZONE r.time_zone)::date)`
     if (q.from) {
       add(`r.accepted_at >= (?::date - interval '14 hours')`, q.from)
       add(`${localDay} >= ?::date`, q.from)

@@ -177,10 +177,10 @@ export class ReportService {
   }
 
   /**
-   * The sweep, at start and periodically: an accepted run without a report gets one (from its signed snapshot), and
-   * every pending report whose claim is free or ran out is queued again.
+   * The sweep, at start and periodically: an accepted run without a report gets one (from its signed snapshot); the
+   * answer lists every pending report whose claim is free or ran out, for the queue to take up again.
    */
-  async reconcile(): Promise<{ created: number; queued: number }> {
+  async reconcile(): Promise<{ created: number; pending: string[] }> {
     const orphans: { run_id: string; sha: string; signed_at: Date }[] = await this.db.query(
       `SELECT run.id AS run_id, s.snapshot_sha256 AS sha, s.signed_at FROM run
          JOIN signature s ON s.run_id = run.id AND s.meaning = 'accepted_by' AND NOT s.voided
@@ -195,9 +195,7 @@ export class ReportService {
         console.error(`accepted run ${o.run_id} has no report and none could be created: ${(err as Error).message}`)
       }
     }
-    const pending = await this.pendingIds()
-    for (const id of pending) await this.requestRender(id, { backlog: true })
-    return { created, queued: pending.length }
+    return { created, pending: await this.pendingIds() }
   }
 
   async forRun(runId: string): Promise<Report | null> {

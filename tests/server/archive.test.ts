@@ -46,18 +46,25 @@ describe('/api/archive', () => {
     expect((await s.repAgent.get(`/api/archive?from=${today}&to=${today}`)).body.total).toBe(2)
     expect((await s.repAgent.get(`/api/archive?to=${dayIn('America/Chicago', -1)}`)).body.total).toBe(0)
     expect((await s.repAgent.get(`/api/archive?from=${dayIn('America/Chicago', 1)}`)).body.total).toBe(0)
-    // Moved to a site 14 hours ahead of UTC, the same reports fall on that site's date.
-    await ctx.db.query(`UPDATE project SET time_zone = 'Pacific/Kiritimati' WHERE id = $1`, [s.project.id])
-    const there = dayIn('Pacific/Kiritimati')
-    expect((await s.repAgent.get(`/api/archive?from=${there}&to=${there}`)).body.total).toBe(2)
-    if (there !== today) expect((await s.repAgent.get(`/api/archive?from=${today}&to=${today}`)).body.total).toBe(0)
-    expect((await s.repAgent.get('/api/archive')).body.items[0].projectTimeZone).toBe('Pacific/Kiritimati')
     expect((await s.repAgent.get('/api/archive?to=2000-01-01')).body.total).toBe(0)
 
     const page1 = (await s.repAgent.get('/api/archive?limit=1')).body
     const page2 = (await s.repAgent.get(`/api/archive?limit=1&cursor=${page1.nextCursor}`)).body
     expect([page1.items[0].reportNumber, page2.items[0].reportNumber]).toEqual([second, first])
     expect(page2.nextCursor).toBeNull()
+
+    // A project moved to another zone later changes nothing issued: the reports keep the zone they were accepted in.
+    await ctx.db.query(`UPDATE project SET time_zone = 'Pacific/Kiritimati' WHERE id = $1`, [s.project.id])
+    expect((await s.repAgent.get(`/api/archive?from=${today}&to=${today}`)).body.total).toBe(2)
+    expect((await s.repAgent.get('/api/archive')).body.items[0].projectTimeZone).toBe('America/Chicago')
+    // A report accepted once the site is 14 hours ahead of UTC falls on that site's date.
+    const third = (await s.techAgent.post(`/api/equipment/${s.equipment.id}/runs`).send({ templateId: s.template.id }).expect(201)).body.run
+    await makeSignable(s.techAgent, third)
+    await issue(s, third.id)
+    const there = dayIn('Pacific/Kiritimati')
+    expect((await s.repAgent.get(`/api/archive?from=${there}&to=${there}`)).body.total).toBe(there === today ? 3 : 1)
+    expect((await s.repAgent.get(`/api/archive?from=${today}&to=${today}`)).body.total).toBe(there === today ? 3 : 2)
+    expect((await s.repAgent.get('/api/archive')).body.items.map((i: { projectTimeZone: string }) => i.projectTimeZone)).toEqual(['Pacific/Kiritimati', 'America/Chicago', 'America/Chicago'])
   }, 120_000)
 
   it('when filters are malformed or name unknown ids, then 400 names the parameter', async () => {

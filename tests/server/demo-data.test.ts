@@ -9,7 +9,7 @@ import type { ReportRenderer, ReportService } from '../../server/services/report
 import { DEMO_HISTORY, DEMO_PEOPLE, isEmpty, loadDemoData } from '../../server/db/demo-data'
 import { localTime } from '@shared/record'
 import { keep, liveSnapshot } from '../../server/services/run-record'
-import { createTestContext, resetDatabase, type TestContext } from '../helpers/context'
+import { asOwner, createTestContext, resetDatabase, type TestContext } from '../helpers/context'
 
 let ctx: TestContext
 let summary: Awaited<ReturnType<typeof loadDemoData>>
@@ -222,14 +222,18 @@ describe('loading as one step', () => {
   it('when the load fails half way, then nothing of it is left (the next start loads it again)', async () => {
     await resetDatabase(ctx.db)
     // The database refuses the sixth report, as a crash half way through the history would.
-    await ctx.db.query(`CREATE FUNCTION demo_test_refuse_report() RETURNS trigger LANGUAGE plpgsql AS $$
-      BEGIN IF (SELECT count(*) FROM report) >= 5 THEN RAISE EXCEPTION 'refused for the test'; END IF; RETURN NEW; END $$`)
-    await ctx.db.query(`CREATE TRIGGER demo_test_refuse_report BEFORE INSERT ON report FOR EACH ROW EXECUTE FUNCTION demo_test_refuse_report()`)
+    await asOwner(async (owner) => {
+      await owner.query(`CREATE FUNCTION demo_test_refuse_report() RETURNS trigger LANGUAGE plpgsql AS $$
+        BEGIN IF (SELECT count(*) FROM report) >= 5 THEN RAISE EXCEPTION 'refused for the test'; END IF; RETURN NEW; END $$`)
+      await owner.query(`CREATE TRIGGER demo_test_refuse_report BEFORE INSERT ON report FOR EACH ROW EXECUTE FUNCTION demo_test_refuse_report()`)
+    }, ctx.db)
     try {
       await expect(loadDemoData(ctx.db)).rejects.toThrow(/refused for the test/)
     } finally {
-      await ctx.db.query(`DROP TRIGGER demo_test_refuse_report ON report`)
-      await ctx.db.query(`DROP FUNCTION demo_test_refuse_report`)
+      await asOwner(async (owner) => {
+        await owner.query(`DROP TRIGGER demo_test_refuse_report ON report`)
+        await owner.query(`DROP FUNCTION demo_test_refuse_report`)
+      }, ctx.db)
     }
     expect(await isEmpty(ctx.db)).toBe(true)
     const [{ n }] = await ctx.db.query(`SELECT (SELECT count(*) FROM run) + (SELECT count(*) FROM audit_event) + (SELECT count(*) FROM project) + (SELECT count(*) FROM outbound_mail) AS n`)

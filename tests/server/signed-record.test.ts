@@ -3,9 +3,8 @@ import { createHash, randomUUID } from 'node:crypto'
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
-import pg from 'pg'
-import { afterAll, beforeAll, beforeEach, describe, expect, inject, it } from 'vitest'
-import { createTestContext, resetDatabase, signedInAgent, TEST_PASSWORD, type TestContext } from '../helpers/context'
+import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
+import { asOwner, createTestContext, resetDatabase, signedInAgent, TEST_PASSWORD, type TestContext } from '../helpers/context'
 import { BLANK_SIGNATURE, readyRun as readyRunIn, sign, SIGNATURE, snapshotOf } from '../helpers/runs'
 import { binary, unzip } from '../helpers/zip'
 
@@ -25,15 +24,7 @@ beforeEach(async () => {
 const readyRun = () => readyRunIn(ctx)
 
 /** A statement as the database owner: what a test needs to stage a fault the application's own role may not cause. */
-async function owner(sql: string, params: unknown[] = []) {
-  const client = new pg.Client({ connectionString: inject('ownerDatabaseUrl') })
-  await client.connect()
-  try {
-    return (await client.query(sql, params)).rows
-  } finally {
-    await client.end()
-  }
-}
+const owner = (sql: string, params: unknown[] = []) => asOwner(async (client) => (await client.query(sql, params)).rows)
 const sha256 = (text: string | Buffer) => createHash('sha256').update(text).digest('hex')
 const PHOTO = fs.readFileSync(path.join(import.meta.dirname, '../helpers/signature-drawn.png'))
 
@@ -211,12 +202,14 @@ describe('issue never leaves an accepted run without its report', () => {
     } finally {
       await owner(`ALTER TABLE report ENABLE TRIGGER report_frozen`)
     }
-    expect((await ctx.services.reports.reconcile()).created).toBe(1)
+    const swept = await ctx.services.reports.reconcile()
+    expect(swept.created).toBe(1)
     const [report] = await ctx.db.query(`SELECT id, status, snapshot_sha256 FROM report WHERE run_id = $1`, [s.run.id])
     expect(report).toMatchObject({ status: 'pending', snapshot_sha256: accepted.body.signature.snapshotSha256 })
+    expect(swept.pending).toEqual([report.id])
     const ready = await ctx.services.reports.process(report.id)
     expect(ready).toMatchObject({ status: 'ready', snapshotSha256: accepted.body.signature.snapshotSha256 })
-    expect((await ctx.services.reports.reconcile()).created).toBe(0)
+    expect(await ctx.services.reports.reconcile()).toEqual({ created: 0, pending: [] })
   }, 60_000)
 
   it('when two workers take the same report at once, then it is rendered once', async () => {
