@@ -7,6 +7,8 @@ export class ApiError extends Error {
     readonly code: string,
     message: string,
     readonly fields: Record<string, string> = {},
+    /** The other top-level members of the error answer, e.g. `current` of a 409 `edit_conflict`, `runs` of `affects_signed_runs`. */
+    readonly details: Record<string, unknown> = {},
   ) {
     super(message)
     this.name = 'ApiError'
@@ -154,9 +156,9 @@ async function send<T>(method: Method, url: string, init: { headers: Record<stri
     data = undefined
   }
   if (!res.ok) {
-    const err = (data as { error?: ApiErrorBody } | undefined)?.error
+    const { error: err, ...details } = (data && typeof data === 'object' ? data : {}) as { error?: ApiErrorBody } & Record<string, unknown>
     if (res.status === 401 && err?.code === 'not_signed_in' && url !== '/session') unauthenticatedHandler?.(url)
-    throw new ApiError(res.status, err?.code ?? 'http_' + res.status, err?.message ?? `The server answered ${res.status} ${res.statusText}`, err?.fields)
+    throw new ApiError(res.status, err?.code ?? 'http_' + res.status, err?.message ?? `The server answered ${res.status} ${res.statusText}`, err?.fields, details)
   }
   return data as T
 }

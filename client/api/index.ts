@@ -1,4 +1,5 @@
 import type { EquipmentDetail, EquipmentSummary, ProjectMemberSummary, ProjectSummary, SessionUser, UserSummary } from '@shared/types/api'
+import type { DesignChangeOutcome } from '@shared/types/design-change'
 import type { ProjectCreateInput, ProjectUpdateInput } from '@shared/schemas/project'
 import type { PasswordChangeInput, SignInInput } from '@shared/schemas/auth'
 import type { UserCreateInput, UserUpdateInput } from '@shared/schemas/user'
@@ -23,7 +24,8 @@ export const projectsApi = {
   list: () => http.get<{ projects: ProjectSummary[] }>('/projects').then((r) => r.projects),
   get: (id: string) => http.get<{ project: ProjectSummary }>(`/projects/${id}`).then((r) => r.project),
   create: (input: ProjectCreateInput) => http.post<{ project: ProjectSummary }>('/projects', input).then((r) => r.project),
-  update: (id: string, input: ProjectUpdateInput) => http.patch<{ project: ProjectSummary }>(`/projects/${id}`, input).then((r) => r.project),
+  /** Resolves the project and what the edit did to its runs; 409 `edit_conflict` and `affects_signed_runs` carry details. */
+  update: (id: string, input: ProjectUpdateInput) => http.patch<{ project: ProjectSummary; runs: DesignChangeOutcome }>(`/projects/${id}`, input),
   remove: (id: string) => http.delete<void>(`/projects/${id}`),
   members: (id: string) => http.get<{ members: ProjectMemberSummary[] }>(`/projects/${id}/members`).then((r) => r.members),
   addMember: (id: string, userId: string) => http.put<{ members: ProjectMemberSummary[] }>(`/projects/${id}/members/${userId}`).then((r) => r.members),
@@ -34,7 +36,8 @@ export const equipmentApi = {
   list: (projectId: string) => http.get<{ equipment: EquipmentSummary[] }>(`/projects/${projectId}/equipment`).then((r) => r.equipment),
   create: (projectId: string, input: unknown) => http.post<{ equipment: EquipmentDetail }>(`/projects/${projectId}/equipment`, input).then((r) => r.equipment),
   get: (id: string) => http.get<{ equipment: EquipmentDetail }>(`/equipment/${id}`).then((r) => r.equipment),
-  update: (id: string, input: unknown) => http.patch<{ equipment: EquipmentDetail }>(`/equipment/${id}`, input).then((r) => r.equipment),
+  /** Resolves the item and what the edit did to its runs; 409 `edit_conflict` and `affects_signed_runs` carry details. */
+  update: (id: string, input: unknown) => http.patch<{ equipment: EquipmentDetail; runs: DesignChangeOutcome }>(`/equipment/${id}`, input),
   remove: (id: string) => http.delete<void>(`/equipment/${id}`),
   photoUrl: (id: string, sha256: string) => `/api/equipment/${id}/nameplate-photo?v=${sha256.slice(0, 12)}`,
   uploadPhoto: (id: string, file: File) => upload<{ equipment: EquipmentDetail }>(`/equipment/${id}/nameplate-photo`, 'photo', file).then((r) => r.equipment),

@@ -90,6 +90,7 @@ export const runsApi = {
 
   createFinding: (runId: string, input: FindingCreateInput) =>
     http.post<{ finding: FindingSummary }>(`${runUrl(runId)}/findings`, input).then((r) => r.finding),
+  /** Throws ApiError; a 409 `edit_conflict` carries the finding as it is now (see editConflictOf). */
   updateFinding: (runId: string, findingId: string, input: FindingUpdateInput) =>
     http.patch<{ finding: FindingSummary }>(`${runUrl(runId)}/findings/${encodeURIComponent(findingId)}`, input).then((r) => r.finding),
 

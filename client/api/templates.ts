@@ -35,8 +35,9 @@ export const templatesApi = {
   /** Opens the next draft, copied from `fromNumber` (the newest version when left out). */
   openDraft: (templateId: string, fromNumber?: number) =>
     http.post<{ version: TemplateVersion }>(`${base(templateId)}/versions`, fromNumber === undefined ? {} : { fromNumber }).then((r) => r.version),
-  saveDraft: (templateId: string, number: number, definition: unknown) =>
-    http.put<{ version: TemplateVersion }>(versionUrl(templateId, number), { definition }).then((r) => r.version),
+  /** Saves on the draft's edit `version`; a 409 `edit_conflict` carries the draft as saved now (see editConflictOf). */
+  saveDraft: (templateId: string, number: number, definition: unknown, version: number) =>
+    http.put<{ version: TemplateVersion }>(versionUrl(templateId, number), { definition, version }).then((r) => r.version),
   discardDraft: (templateId: string, number: number) => http.delete<void>(versionUrl(templateId, number)),
   publish: (templateId: string, number: number, changelog: string) =>
     http.post<{ version: TemplateVersionSummary }>(`${versionUrl(templateId, number)}/publish`, { changelog }).then((r) => r.version),
