@@ -37,8 +37,8 @@ export function equipmentRoutes(config: Config, equipment: EquipmentService, pro
   }
   const item = (req: Request) => (req as WithEquipment).equipment!
 
-  byId.get('/:equipmentId', validate({ params: equipmentParams }), load, (req, res) => {
-    res.json({ equipment: equipment.detail(item(req)) })
+  byId.get('/:equipmentId', validate({ params: equipmentParams }), load, async (req, res) => {
+    res.json({ equipment: await equipment.detailWithHistory(item(req)) })
   })
 
   const updateBody = validate((req) => ({ body: equipmentUpdateSchema(item(req).kind as EquipmentKind) }))

@@ -107,8 +107,17 @@ export class EquipmentService {
     return this.detail({ ...saved, nameplatePhoto: null } as Equipment)
   }
 
+  /** The item with the tags its issued reports print, where those differ from its tag now. */
+  async detailWithHistory(e: Equipment): Promise<EquipmentDetail> {
+    const rows: { tag: string }[] = await this.db.query(
+      `SELECT DISTINCT equipment_tag AS tag FROM report WHERE equipment_id = $1 AND equipment_tag IS NOT NULL AND equipment_tag <> $2 ORDER BY 1`,
+      [e.id, e.tag],
+    )
+    return { ...this.detail(e), formerTags: rows.map((r) => r.tag) }
+  }
+
   private async fresh(id: string): Promise<EquipmentDetail> {
-    return this.detail(await this.db.getRepository(Equipment).findOneOrFail({ where: { id }, relations: { nameplatePhoto: true } }))
+    return this.detailWithHistory(await this.db.getRepository(Equipment).findOneOrFail({ where: { id }, relations: { nameplatePhoto: true } }))
   }
 
   /**

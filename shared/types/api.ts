@@ -140,4 +140,6 @@ export interface EquipmentDetail extends EquipmentSummary {
   designPoint: Record<string, unknown>
   notes: string
   nameplatePhoto: AttachmentSummary | null
+  /** Tags this item had when reports on it were issued, if it was renamed since (the reports keep the tag they printed). */
+  formerTags?: string[]
 }

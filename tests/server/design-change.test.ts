@@ -127,7 +127,7 @@ describe('an equipment edit and the runs it reaches', () => {
     ])
   })
 
-  it('when the run was accepted, then an edit of its equipment leaves the run, its verdicts and its signatures as they were', async () => {
+  it('when the run was accepted, then an edit of its equipment leaves the run, its verdicts and its signatures as they were, and the item names the tag its report printed', async () => {
     const s = await readyRun(ctx)
     await sign(s.techAgent, s.run.id, 'performed_by').then((r) => expect(r.status).toBe(201))
     await sign(s.repAgent, s.run.id, 'accepted_by').then((r) => expect(r.status).toBe(201))
@@ -144,6 +144,8 @@ describe('an equipment edit and the runs it reaches', () => {
       { meaning: 'accepted_by', voided: false },
     ])
     expect(await auditOf('run.rejudged')).toEqual([])
+    const item = (await s.adminAgent.get(`/api/equipment/${s.equipment.id}`)).body.equipment
+    expect(item).toMatchObject({ tag: 'CH-7A', formerTags: ['CH-7'] })
   })
 })
 
