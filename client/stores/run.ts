@@ -1,5 +1,5 @@
 import { defineStore } from 'pinia'
-import { computed, ref, shallowRef } from 'vue'
+import { computed, ref, shallowRef, watch } from 'vue'
 import { ValidationError } from 'yup'
 import { evaluateField, type FieldEvaluation } from '@shared/rules'
 import type { ChecklistField, ChecklistSection, ChecklistStep } from '@shared/schemas/checklist'
@@ -18,12 +18,16 @@ import {
 import { ApiError } from '@/api/http'
 import { runsApi } from '@/api/runs'
 import {
-  createIndexedDbQueueStorage,
   createMemoryQueueStorage,
+  openDeviceQueueStorage,
+  RUN_EDITOR_KEY_PREFIX,
+  sendQueuedChange,
+  setDeviceQueueStorageFactory,
   useOfflineQueue,
   type OfflineQueue,
   type QueuedChange,
   type QueueStorage,
+  type WaitingAuthor,
 } from '@/composables/useOfflineQueue'
 import { useSessionStore } from '@/stores/session'
 
@@ -48,6 +52,12 @@ export interface StepRef {
 
 export type SaveTone = 'saved' | 'saving' | 'offline' | 'problem' | 'readonly'
 
+/** "Ines Marlow has 2 changes to this run waiting on this device", for each person. */
+export function othersWaitingText(waiting: WaitingAuthor[]): string | null {
+  if (!waiting.length) return null
+  return waiting.map((w) => `${w.authorName} has ${w.count} change${w.count === 1 ? '' : 's'} to this run waiting on this device`).join('; ')
+}
+
 const readingContent = (r: LocalReading): LocalReading => ({ entry: r.entry, notApplicable: r.notApplicable, naReason: r.naReason, justification: r.justification })
 const sameJson = (a: unknown, b: unknown) => JSON.stringify(a) === JSON.stringify(b)
 /** JSON with object keys sorted: the database hands entries back with its own key order. */
@@ -57,11 +67,9 @@ function canonicalJson(value: unknown): string {
   )
 }
 
-/** Opens the queue's storage: IndexedDB, or memory when this browser has none (then the page says so). */
-let storageFactory: () => Promise<QueueStorage> = createIndexedDbQueueStorage
-/** Tests hand in their own storage. */
+/** Tests hand in their own storage (by default the queue's IndexedDB, or memory when this browser has none: then the page says so). */
 export function setRunQueueStorageFactory(factory: () => Promise<QueueStorage>) {
-  storageFactory = factory
+  setDeviceQueueStorageFactory(factory)
 }
 
 /** The run being worked on: the server's state, what this device has entered on top, and the outbox that sends it. */
@@ -79,8 +87,18 @@ export const useRunStore = defineStore('run', () => {
   const queue = shallowRef<OfflineQueue | null>(null)
   let storage: QueueStorage | null = null
   let snapshotTimer: ReturnType<typeof setTimeout> | undefined
+  /** Whose run this is on the page: the copy kept, and the changes made, are that person's. */
+  let openedBy: string | null = null
 
   const session = useSessionStore()
+  // Another person (or nobody) signed in: what the previous person had on the page goes; their changes stay on the device.
+  watch(
+    () => session.actingUser?.id ?? null,
+    (now, before) => {
+      if (before !== null && now !== before) close()
+    },
+    { flush: 'sync' },
+  )
 
   const definition = computed(() => run.value?.definition ?? null)
   const steps = computed<StepRef[]>(() => {
@@ -98,13 +116,14 @@ export const useRunStore = defineStore('run', () => {
   const canEdit = computed(() => {
     if (!run.value || !EDITABLE_RUN_STATES.includes(run.value.state)) return false
     if (session.user) return session.role === 'technician'
-    return !session.loaded && deviceEditor.value
+    return !session.loaded && session.actingUser?.role === 'technician' && deviceEditor.value
   })
-  const editorKey = (runId: string) => `startproof:run-editor:${runId}`
+  const editorKey = (runId: string) => `${RUN_EDITOR_KEY_PREFIX}${runId}`
   function rememberEditor(runId: string) {
     try {
       if (session.role === 'technician') localStorage.setItem(editorKey(runId), session.user!.id)
-      deviceEditor.value = localStorage.getItem(editorKey(runId)) !== null
+      const editor = localStorage.getItem(editorKey(runId))
+      deviceEditor.value = editor !== null && editor === session.actingUser?.id
     } catch {
       deviceEditor.value = false
     }
@@ -211,7 +230,7 @@ export const useRunStore = defineStore('run', () => {
   function scheduleSnapshot() {
     clearTimeout(snapshotTimer)
     snapshotTimer = setTimeout(() => {
-      if (run.value && storage) void storage.putRun(run.value).catch(() => undefined)
+      if (run.value && storage && openedBy) void storage.putRun(run.value, openedBy).catch(() => undefined)
     }, 400)
   }
 
@@ -273,6 +292,7 @@ export const useRunStore = defineStore('run', () => {
     queue.value?.dispose()
     queue.value = null
     clearTimeout(snapshotTimer)
+    openedBy = null
     run.value = null
     local.value = {}
     localSteps.value = {}
@@ -284,12 +304,14 @@ export const useRunStore = defineStore('run', () => {
 
   /** Opens a run: this device's copy at once if it has one, the server's when it answers, then the changes still kept here. */
   async function open(runId: string) {
-    if (run.value?.id === runId && queue.value) return
+    const by = session.actingUser?.id ?? null
+    if (run.value?.id === runId && queue.value && openedBy === by) return
     close()
+    openedBy = by
     isLoading.value = true
     try {
       try {
-        storage = await storageFactory()
+        storage = await openDeviceQueueStorage()
         storageProblem.value = null
       } catch {
         storage = createMemoryQueueStorage()
@@ -297,20 +319,19 @@ export const useRunStore = defineStore('run', () => {
       }
       const store = storage
       rememberEditor(runId)
-      const snapshot = await store.getRun(runId).catch(() => null)
+      const snapshot = by ? await store.getRun(runId, by).catch(() => null) : null
       if (snapshot) run.value = snapshot
-      overlay(await store.list(runId).catch(() => []))
+      // Only this person's changes are shown on top: another person's wait, unseen, for that person.
+      overlay((await store.list(runId).catch(() => [])).filter((c) => c.authorId === null || c.authorId === by))
 
       const q = useOfflineQueue({
         runId,
         storage: store,
-        send: async (change) => {
-          if (change.kind === 'reading') {
-            const res = await runsApi.saveReading(runId, change.targetId, change.body as never)
-            return { version: res.reading.version, response: res }
-          }
-          const res = await runsApi.saveStep(runId, change.targetId, change.body as never)
-          return { version: res.step.version, response: res }
+        author: () => session.author,
+        send: sendQueuedChange,
+        onAuthorMismatch: () => {
+          // The server holds someone else's sign-in than this page thinks: ask it, and the page follows.
+          void session.recheck().catch(() => undefined)
         },
         onSaved: (change, result) => {
           // The server took a change, so it answers again: a session check that failed offline can succeed now.
@@ -334,7 +355,7 @@ export const useRunStore = defineStore('run', () => {
         const fresh = await runsApi.get(runId)
         run.value = fresh
         fromDevice.value = false
-        void store.putRun(fresh).catch(() => undefined)
+        if (by) void store.putRun(fresh, by).catch(() => undefined)
       } catch (err) {
         if (!run.value) {
           loadError.value =
@@ -494,7 +515,7 @@ export const useRunStore = defineStore('run', () => {
     if (errors.length) return { tone: 'problem', label: `Not saved: ${errors[0]}`, detail: errors.length > 1 ? `${errors.length} fields need attention` : null }
     if (n > 0 || status === 'sending' || status === 'waiting') return { tone: 'saving', label: 'Saving…', detail: null }
     if (fromDevice.value) return { tone: 'offline', label: 'Opened from this device — the server has not answered yet', detail: null }
-    return { tone: 'saved', label: 'Saved', detail: null }
+    return { tone: 'saved', label: 'Saved', detail: othersWaitingText(q?.othersWaiting.value ?? []) }
   })
 
   return {

@@ -1,7 +1,17 @@
 import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
 import { RunApiError } from '@/api/runs'
-import { createMemoryQueueStorage, useOfflineQueue, type QueuedChange } from '@/composables/useOfflineQueue'
-import type { RunReading } from '@shared/types/run'
+import {
+  createMemoryQueueStorage,
+  forgetDeviceRunData,
+  sendWaitingChanges,
+  setDeviceQueueStorageFactory,
+  stopBackgroundSending,
+  summarizeWaiting,
+  useOfflineQueue,
+  type ChangeAuthor,
+  type QueuedChange,
+} from '@/composables/useOfflineQueue'
+import type { RunDetail, RunReading } from '@shared/types/run'
 
 const RUN = 'run-1'
 const reading = (value: number) => ({ entry: { value, unit: 'psid' }, notApplicable: false, naReason: null, justification: null })
@@ -18,12 +28,20 @@ const current = (version: number, value: number): RunReading => ({
   updatedByName: 'Ines Marlow',
 })
 
+// Two technicians sharing one tablet.
+const RAFE: ChangeAuthor = { id: '6f1d2c4e-8a53-4b7e-9c21-3d5e7f9a1b02', name: 'Rafe Okafor' }
+const INES: ChangeAuthor = { id: '0b8e4a6c-2d19-4f53-a7e1-5c9d3b7f2e64', name: 'Ines Marlow' }
+
 let storage: ReturnType<typeof createMemoryQueueStorage>
+/** Who is signed in on the tablet now. */
+let signedIn: ChangeAuthor | null
 beforeEach(() => {
   vi.useFakeTimers()
   storage = createMemoryQueueStorage()
+  signedIn = RAFE
 })
 afterEach(() => {
+  stopBackgroundSending()
   vi.useRealTimers()
 })
 
@@ -31,9 +49,14 @@ function setup(send: (c: QueuedChange) => Promise<{ version: number }>, extra: P
   const onRejected = vi.fn()
   const onConflict = vi.fn()
   const onSaved = vi.fn()
-  const queue = useOfflineQueue({ runId: RUN, storage, send, onRejected, onConflict, onSaved, debounceMs: 600, backoffMs: 1000, maxBackoffMs: 8000, listenOnline: false, ...extra })
+  const queue = useOfflineQueue({
+    runId: RUN, storage, author: () => signedIn, send, onRejected, onConflict, onSaved, debounceMs: 600, backoffMs: 1000, maxBackoffMs: 8000, listenOnline: false, ...extra,
+  })
   return { queue, onRejected, onConflict, onSaved }
 }
+
+/** A run detail as kept for offline opening (only its id matters to the pruning). */
+const keptRun = (id: string) => ({ id, readings: {}, steps: {}, progress: {} }) as unknown as RunDetail
 
 describe('useOfflineQueue', () => {
   it('when a change is made, then it is in storage before any request, sent after typing settles, and removed after the 200', async () => {
@@ -253,5 +276,181 @@ describe('useOfflineQueue', () => {
     expect(storage.changes.size).toBe(1)
     expect(onRejected).not.toHaveBeenCalled()
     queue.dispose()
+  })
+})
+
+describe('useOfflineQueue on a shared tablet', () => {
+  it('when a change is made, then it carries its author in storage and in the request body', async () => {
+    const send = vi.fn().mockResolvedValue({ version: 1 })
+    const { queue } = setup(send)
+    await queue.load()
+    const change = await queue.enqueue('reading', 'chwFlow', reading(1200), 0)
+    expect(storage.changes.get(change.changeId)).toMatchObject({ authorId: RAFE.id, authorName: 'Rafe Okafor', body: { authorId: RAFE.id } })
+    await vi.advanceTimersByTimeAsync(600)
+    expect(send.mock.calls[0][0].body.authorId).toBe(RAFE.id)
+    queue.dispose()
+  })
+
+  it('when the author signs out with a change unsent, then nothing more is sent and the change stays on the device', async () => {
+    const send = vi.fn().mockRejectedValueOnce(network()).mockResolvedValue({ version: 1 })
+    const { queue } = setup(send)
+    await queue.load()
+    await queue.enqueue('reading', 'chwFlow', reading(1200), 0)
+    await vi.advanceTimersByTimeAsync(600)
+    expect(send).toHaveBeenCalledTimes(1)
+    signedIn = null
+    queue.retryNow()
+    await vi.advanceTimersByTimeAsync(10_000)
+    expect(send).toHaveBeenCalledTimes(1)
+    expect(queue.status.value).toBe('signed_out')
+    expect([...storage.changes.values()].map((c) => c.authorId)).toEqual([RAFE.id])
+    queue.dispose()
+  })
+
+  it('when another person signs in, then the first person\'s changes are neither shown nor sent, theirs go, and the first person\'s go when they sign in again', async () => {
+    const offline = setup(vi.fn().mockRejectedValue(network()))
+    await offline.queue.load()
+    const rafes = await offline.queue.enqueue('reading', 'chwFlow', reading(1200), 3)
+    await offline.queue.enqueue('reading', 'cwFlow', reading(1500), 0)
+    await vi.advanceTimersByTimeAsync(700)
+    offline.queue.dispose()
+
+    signedIn = INES
+    const send = vi.fn().mockResolvedValue({ version: 4 })
+    const ines = setup(send)
+    expect(await ines.queue.load()).toEqual([])
+    expect(ines.queue.othersWaiting.value).toEqual([{ authorId: RAFE.id, authorName: 'Rafe Okafor', count: 2 }])
+    // Ines changes the same field: a change of her own, and Rafe's keeps the version he saw.
+    const hers = await ines.queue.enqueue('reading', 'chwFlow', reading(1190), 3)
+    await vi.advanceTimersByTimeAsync(5000)
+    expect(send.mock.calls.map((c) => [c[0].changeId, c[0].body.authorId])).toEqual([[hers.changeId, INES.id]])
+    expect(storage.changes.size).toBe(2)
+    expect(storage.changes.get(rafes.changeId)?.body.baseVersion).toBe(3)
+    ines.queue.dispose()
+
+    signedIn = RAFE
+    const back = vi.fn().mockResolvedValue({ version: 5 })
+    const rafe = setup(back)
+    await rafe.queue.load()
+    await vi.advanceTimersByTimeAsync(0)
+    expect(back.mock.calls.map((c) => [c[0].targetId, c[0].body.authorId])).toEqual([['chwFlow', RAFE.id], ['cwFlow', RAFE.id]])
+    expect(storage.changes.size).toBe(0)
+    rafe.queue.dispose()
+  })
+
+  it('when the server answers that the change is not the signed-in person\'s (409 author_mismatch), then the change is kept and the page is told', async () => {
+    const mismatch = new RunApiError(409, 'author_mismatch', 'This change was made by another person than the one signed in', {}, null)
+    const send = vi.fn().mockRejectedValue(mismatch)
+    const onAuthorMismatch = vi.fn()
+    const { queue, onRejected } = setup(send, { onAuthorMismatch })
+    await queue.load()
+    const change = await queue.enqueue('reading', 'chwFlow', reading(1200), 0)
+    await vi.advanceTimersByTimeAsync(10_000)
+    expect(send).toHaveBeenCalledTimes(1)
+    expect(onAuthorMismatch).toHaveBeenCalledWith(expect.objectContaining({ changeId: change.changeId }), mismatch)
+    expect(onRejected).not.toHaveBeenCalled()
+    expect(queue.status.value).toBe('signed_out')
+    expect(storage.changes.has(change.changeId)).toBe(true)
+    queue.dispose()
+  })
+
+  it('when a change was kept by a version that did not record authors, then it is sent as before, without an author', async () => {
+    const send = vi.fn().mockResolvedValue({ version: 1 })
+    const legacy = { changeId: 'c0ffee00-0000-4000-8000-000000000001', runId: RUN, seq: 1, kind: 'reading', targetId: 'chwFlow', attempted: false, state: 'pending', conflict: null, readyAt: 0, queuedAt: '2026-12-01T10:00:00.000Z' }
+    await storage.put({ ...legacy, body: { ...reading(1200), changeId: legacy.changeId, baseVersion: 0 } } as unknown as QueuedChange)
+    signedIn = INES
+    const { queue } = setup(send)
+    expect(await queue.load()).toHaveLength(1)
+    await vi.advanceTimersByTimeAsync(0)
+    expect(send).toHaveBeenCalledTimes(1)
+    expect(send.mock.calls[0][0].body).not.toHaveProperty('authorId')
+    queue.dispose()
+  })
+
+  it('when the author signs in again with the run closed, then their changes of every run are sent, others\' stay, and a refusal stays for the run page', async () => {
+    const fail = setup(vi.fn().mockRejectedValue(network()))
+    await fail.queue.load()
+    await fail.queue.enqueue('reading', 'chwFlow', reading(1200), 0)
+    await fail.queue.enqueue('reading', 'voltsAB', reading(461), 0)
+    await vi.advanceTimersByTimeAsync(700)
+    fail.queue.dispose()
+    signedIn = INES
+    const ines = useOfflineQueue({ runId: 'run-2', storage, author: () => signedIn, send: vi.fn().mockRejectedValue(network()), listenOnline: false })
+    await ines.load()
+    const hers = await ines.enqueue('reading', 'cwFlow', reading(1500), 0)
+    await vi.advanceTimersByTimeAsync(700)
+    ines.dispose()
+    expect(summarizeWaiting([...storage.changes.values()])).toEqual([
+      { authorId: RAFE.id, authorName: 'Rafe Okafor', count: 2 },
+      { authorId: INES.id, authorName: 'Ines Marlow', count: 1 },
+    ])
+
+    signedIn = RAFE
+    const refusal = new RunApiError(409, 'run_locked', 'The run has been submitted', {}, null)
+    const send = vi.fn(async (c: QueuedChange) => {
+      if (c.targetId === 'voltsAB') throw refusal
+      return { version: 1 }
+    })
+    const started = await sendWaitingChanges({ storage, author: () => signedIn, send, listenOnline: false })
+    expect(started).toHaveLength(1)
+    await vi.advanceTimersByTimeAsync(0)
+    expect(send.mock.calls.map((c) => [c[0].runId, c[0].targetId, c[0].body.authorId])).toEqual([[RUN, 'chwFlow', RAFE.id], [RUN, 'voltsAB', RAFE.id]])
+    expect([...storage.changes.values()].map((c) => [c.authorId, c.targetId]).sort()).toEqual([[INES.id, 'cwFlow'], [RAFE.id, 'voltsAB']].sort())
+    expect(storage.changes.has(hers.changeId)).toBe(true)
+  })
+
+  it('when the person signs out while their changes are being sent in the background, then the rest stay on the device', async () => {
+    const fail = setup(vi.fn().mockRejectedValue(network()))
+    await fail.queue.load()
+    await fail.queue.enqueue('reading', 'chwFlow', reading(1200), 0)
+    await fail.queue.enqueue('reading', 'cwFlow', reading(1500), 0)
+    await vi.advanceTimersByTimeAsync(700)
+    fail.queue.dispose()
+
+    const send = vi.fn().mockRejectedValue(network())
+    await sendWaitingChanges({ storage, author: () => signedIn, send, backoffMs: 1000, listenOnline: false })
+    await vi.advanceTimersByTimeAsync(0)
+    expect(send).toHaveBeenCalledTimes(1)
+    signedIn = null
+    await vi.advanceTimersByTimeAsync(60_000)
+    expect(send).toHaveBeenCalledTimes(1)
+    expect(storage.changes.size).toBe(2)
+  })
+
+  it('when someone signs out, then kept runs go except those whose viewer still has unsent changes to them, and the run keys of this browser go', async () => {
+    setDeviceQueueStorageFactory(async () => storage)
+    const { queue } = setup(vi.fn().mockRejectedValue(network()))
+    await queue.load()
+    await queue.enqueue('reading', 'chwFlow', reading(1200), 0)
+    await vi.advanceTimersByTimeAsync(700)
+    queue.dispose()
+    await storage.putRun(keptRun(RUN), RAFE.id)
+    await storage.putRun(keptRun('run-2'), RAFE.id)
+    await storage.putRun(keptRun(RUN), INES.id)
+    localStorage.setItem(`startproof:run-editor:${RUN}`, RAFE.id)
+    sessionStorage.setItem(`startproof:run-cautions:${RUN}`, JSON.stringify(['safety-checks']))
+    localStorage.setItem('startproof:template-working-copy:t1:v2', '{"definition":{}}')
+
+    await forgetDeviceRunData(null)
+
+    expect(await storage.getRun(RUN, RAFE.id)).toMatchObject({ id: RUN })
+    expect(await storage.getRun('run-2', RAFE.id)).toBeNull()
+    expect(await storage.getRun(RUN, INES.id)).toBeNull()
+    expect(storage.changes.size).toBe(1)
+    expect(localStorage.getItem(`startproof:run-editor:${RUN}`)).toBeNull()
+    expect(sessionStorage.getItem(`startproof:run-cautions:${RUN}`)).toBeNull()
+    // Unsaved template work is not a cache: it stays.
+    expect(localStorage.getItem('startproof:template-working-copy:t1:v2')).not.toBeNull()
+    localStorage.clear()
+  })
+
+  it('when a person signs in, then their own kept runs stay and nobody else\'s without unsent changes do', async () => {
+    setDeviceQueueStorageFactory(async () => storage)
+    await storage.putRun(keptRun(RUN), RAFE.id)
+    await storage.putRun(keptRun('run-2'), INES.id)
+    await forgetDeviceRunData(INES.id)
+    expect(await storage.getRun(RUN, RAFE.id)).toBeNull()
+    expect(await storage.getRun('run-2', INES.id)).toMatchObject({ id: 'run-2' })
+    expect(await storage.getRun('run-2', RAFE.id)).toBeNull()
   })
 })
