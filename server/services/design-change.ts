@@ -8,7 +8,7 @@ import { Equipment, OutboundMail, Project, ProjectMember, Reading, RunStep, Sign
 import { renderMailText } from '../mail/mail.service'
 import { recordAudit } from './audit.service'
 import { changedKeys, listWords, utcTime } from './edit-conflict'
-import { evaluateAll } from './run.service'
+import { evaluateAll } from './run-record'
 
 /**
  * What a run is judged with and what its signature names must not drift from the record after signing. When an admin
@@ -164,13 +164,12 @@ export async function applyDesignChange(tx: EntityManager, runs: OpenRun[], chan
   const tagNow = change.keys.includes('tag') ? ` (the tag is now ${String(change.after.tag)})` : ''
   const reason = `Voided: ${whatChanged(change)} ${change.keys.length === 1 ? 'was' : 'were'} changed by ${admin.displayName} after signing${tagNow}`
   for (const run of runs) {
-    const [project, equipment, version, readings, naStepRows] = await Promise.all([
-      tx.getRepository(Project).findOneByOrFail({ id: run.projectId }),
-      tx.getRepository(Equipment).findOneByOrFail({ id: run.equipmentId }),
-      tx.getRepository(TemplateVersion).findOneByOrFail({ id: run.templateVersionId }),
-      tx.getRepository(Reading).find({ where: { runId: run.runId }, order: { fieldId: 'ASC' } }),
-      tx.getRepository(RunStep).find({ where: { runId: run.runId, notApplicable: true }, select: { stepId: true } }),
-    ])
+    // One after another: inside the transaction one connection answers one query at a time.
+    const project = await tx.getRepository(Project).findOneByOrFail({ id: run.projectId })
+    const equipment = await tx.getRepository(Equipment).findOneByOrFail({ id: run.equipmentId })
+    const version = await tx.getRepository(TemplateVersion).findOneByOrFail({ id: run.templateVersionId })
+    const readings = await tx.getRepository(Reading).find({ where: { runId: run.runId }, order: { fieldId: 'ASC' } })
+    const naStepRows = await tx.getRepository(RunStep).find({ where: { runId: run.runId, notApplicable: true }, select: { stepId: true } })
     const definition = version.definition as unknown as ChecklistDefinition
     const evaluations = evaluateAll({ definition, equipment, project }, readings, new Set(naStepRows.map((s) => s.stepId)))
     const verdictChanges: { fieldId: string; before: string; after: string }[] = []

@@ -66,7 +66,8 @@ export class FindingService {
 
   /** One finding as the runner shows it, with the edit version its next edit must name. */
   private async view(runId: string, findingId: string, manager: EntityManager = this.db.manager): Promise<FindingSummary> {
-    const [views, row] = await Promise.all([this.listViews(runId, manager), manager.getRepository(Finding).findOneByOrFail({ id: findingId, runId })])
+    const views = await this.listViews(runId, manager)
+    const row = await manager.getRepository(Finding).findOneByOrFail({ id: findingId, runId })
     return { ...views.find((f) => f.id === findingId)!, version: row.version }
   }
 

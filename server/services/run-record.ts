@@ -69,10 +69,8 @@ export function stepView(s: RunStep, names: Map<string, string>): RunStepState {
 }
 
 export async function findingViews(manager: EntityManager, runId: string): Promise<FindingSummary[]> {
-  const [findings, links] = await Promise.all([
-    manager.getRepository(Finding).find({ where: { runId }, order: { createdAt: 'ASC', id: 'ASC' } }),
-    manager.getRepository(RunAttachment).find({ where: { runId }, select: { id: true, findingId: true }, order: { createdAt: 'ASC', id: 'ASC' } }),
-  ])
+  const findings = await manager.getRepository(Finding).find({ where: { runId }, order: { createdAt: 'ASC', id: 'ASC' } })
+  const links = await manager.getRepository(RunAttachment).find({ where: { runId }, select: { id: true, findingId: true }, order: { createdAt: 'ASC', id: 'ASC' } })
   const names = await displayNames(manager, findings.flatMap((f) => [f.createdBy, f.resolvedBy]))
   return findings.map((f) => ({
     id: f.id,
@@ -111,19 +109,16 @@ export async function attachmentViews(manager: EntityManager, runId: string): Pr
 /** The run as it stands in the live tables, as a snapshot (what a performer would sign now). */
 export async function liveSnapshot(manager: EntityManager, runId: string): Promise<RunSnapshot> {
   const run = await manager.getRepository(Run).findOneByOrFail({ id: runId })
-  const [project, equipment, version, readings, steps, findings, attachments] = await Promise.all([
-    manager.getRepository(Project).findOneByOrFail({ id: run.projectId }),
-    manager.getRepository(Equipment).findOneByOrFail({ id: run.equipmentId }),
-    manager.getRepository(TemplateVersion).findOneByOrFail({ id: run.templateVersionId }),
-    manager.getRepository(Reading).find({ where: { runId }, order: { fieldId: 'ASC' } }),
-    manager.getRepository(RunStep).find({ where: { runId }, order: { stepId: 'ASC' } }),
-    findingViews(manager, runId),
-    attachmentViews(manager, runId),
-  ])
-  const [template, organization] = await Promise.all([
-    manager.getRepository(ChecklistTemplate).findOneByOrFail({ id: version.templateId }),
-    manager.getRepository(Organization).findOneByOrFail({ id: project.organizationId }),
-  ])
+  // One after another: this runs inside the signing transaction, where one connection answers one query at a time.
+  const project = await manager.getRepository(Project).findOneByOrFail({ id: run.projectId })
+  const equipment = await manager.getRepository(Equipment).findOneByOrFail({ id: run.equipmentId })
+  const version = await manager.getRepository(TemplateVersion).findOneByOrFail({ id: run.templateVersionId })
+  const readings = await manager.getRepository(Reading).find({ where: { runId }, order: { fieldId: 'ASC' } })
+  const steps = await manager.getRepository(RunStep).find({ where: { runId }, order: { stepId: 'ASC' } })
+  const findings = await findingViews(manager, runId)
+  const attachments = await attachmentViews(manager, runId)
+  const template = await manager.getRepository(ChecklistTemplate).findOneByOrFail({ id: version.templateId })
+  const organization = await manager.getRepository(Organization).findOneByOrFail({ id: project.organizationId })
   const names = await displayNames(manager, [run.startedBy, ...readings.map((r) => r.updatedBy), ...steps.map((s) => s.updatedBy)])
   return buildRunSnapshot({
     run: {

@@ -59,11 +59,10 @@ export class RunService {
   async context(user: SessionUser, runId: string, manager: EntityManager = this.db.manager, lock = false): Promise<RunContext> {
     const run = await manager.getRepository(Run).findOne({ where: { id: runId }, ...(lock ? { lock: { mode: 'pessimistic_write' as const } } : {}) })
     if (!run || !(await this.projects.canAccess(user, run.projectId)) || !this.mayRead(user, run.state)) throw AppError.notFound('Run')
-    const [project, equipment, version] = await Promise.all([
-      manager.getRepository(Project).findOneByOrFail({ id: run.projectId }),
-      manager.getRepository(Equipment).findOneByOrFail({ id: run.equipmentId }),
-      manager.getRepository(TemplateVersion).findOneByOrFail({ id: run.templateVersionId }),
-    ])
+    // One after another: inside a transaction one connection answers one query at a time.
+    const project = await manager.getRepository(Project).findOneByOrFail({ id: run.projectId })
+    const equipment = await manager.getRepository(Equipment).findOneByOrFail({ id: run.equipmentId })
+    const version = await manager.getRepository(TemplateVersion).findOneByOrFail({ id: run.templateVersionId })
     const template = await manager.getRepository(ChecklistTemplate).findOneByOrFail({ id: version.templateId })
     return { run, project, equipment, version, template, definition: version.definition as unknown as ChecklistDefinition }
   }
