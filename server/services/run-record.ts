@@ -86,6 +86,7 @@ export async function findingViews(manager: EntityManager, runId: string): Promi
     createdAt: f.createdAt.toISOString(),
     createdByName: f.createdBy ? (names.get(f.createdBy) ?? null) : null,
     attachmentIds: links.filter((l) => l.findingId === f.id).map((l) => l.id),
+    version: f.version,
   }))
 }
 

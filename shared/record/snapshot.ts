@@ -49,7 +49,7 @@ const EQUIPMENT_KEYS = ['id', 'projectId', 'tag', 'kind', 'location', 'manufactu
 const RUN_KEYS = ['id', 'projectId', 'equipmentId', 'templateId', 'templateName', 'templateVersionId', 'templateVersionNumber', 'startedAt', 'startedByName'] as const
 const READING_KEYS = ['fieldId', 'entry', 'notApplicable', 'naReason', 'justification', 'evaluation', 'version', 'updatedAt', 'updatedByName'] as const
 const STEP_KEYS = ['stepId', 'note', 'notApplicable', 'naReason', 'version', 'updatedAt', 'updatedByName'] as const
-const FINDING_KEYS = ['id', 'runId', 'stepId', 'fieldId', 'severity', 'description', 'status', 'resolution', 'resolvedAt', 'resolvedByName', 'createdAt', 'createdByName', 'attachmentIds'] as const
+const FINDING_KEYS = ['id', 'runId', 'stepId', 'fieldId', 'severity', 'description', 'status', 'resolution', 'resolvedAt', 'resolvedByName', 'createdAt', 'createdByName', 'attachmentIds', 'version'] as const
 const ATTACHMENT_KEYS = ['id', 'sha256', 'mimeType', 'sizeBytes', 'originalName', 'createdAt', 'stepId', 'fieldId', 'findingId', 'url', 'thumbnailUrl'] as const
 
 /** Builds the snapshot from plain parts, keeping only what the record holds (nothing that changes with other runs). */

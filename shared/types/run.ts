@@ -83,8 +83,8 @@ export interface FindingSummary {
   createdAt: string
   createdByName: string | null
   attachmentIds: string[]
-  /** Edit version: send it back with an edit; one made on an older version is refused (409 `edit_conflict`). */
-  version?: number
+  /** Edit version: send it back with an edit; one made on an older version is refused (409 `edit_conflict`). Not part of the signed snapshot. */
+  version: number
 }
 
 export interface RunAttachment extends AttachmentSummary {
