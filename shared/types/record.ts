@@ -1,30 +1,13 @@
 // What the signed record names: the project, the equipment and the run as they were when the performer signed.
+import type { EquipmentSummary, ProjectSummary } from './api'
 
-/** The project as the record names it: identity, site, units, time zone and report paper. */
-export interface RecordProject {
-  id: string
-  code: string
-  name: string
+/** The project as the record names it: identity, site, units, time zone and report paper, and the firm's name. */
+export type RecordProject = Pick<ProjectSummary, 'id' | 'code' | 'name' | 'siteName' | 'siteAddress' | 'timeZone' | 'unitSystem' | 'reportPaper'> & {
   organizationName: string
-  siteName: string
-  siteAddress: string
-  timeZone: string
-  unitSystem: 'IP' | 'SI'
-  reportPaper: 'A4' | 'Letter'
 }
 
 /** The equipment as the record names it: nameplate and design point (canonical SI values). */
-export interface RecordEquipment {
-  id: string
-  projectId: string
-  tag: string
-  kind: string
-  location: string
-  manufacturer: string
-  model: string
-  serialNumber: string
-  yearBuilt: number | null
-  refrigerant: string | null
+export type RecordEquipment = Pick<EquipmentSummary, 'id' | 'projectId' | 'tag' | 'kind' | 'location' | 'manufacturer' | 'model' | 'serialNumber' | 'yearBuilt' | 'refrigerant'> & {
   designPoint: Record<string, unknown>
 }
 

@@ -23,6 +23,15 @@ beforeEach(async () => {
 
 const readyRun = () => readyRunIn(ctx)
 
+/** A run signed by its performer and accepted, with its report row waiting for a render. */
+async function acceptedWithPendingReport() {
+  const s = await readyRun()
+  await sign(s.techAgent, s.run.id, 'performed_by').then((r) => expect(r.status).toBe(201))
+  await sign(s.repAgent, s.run.id, 'accepted_by').then((r) => expect(r.status).toBe(201))
+  const pending = (await s.repAgent.get(`/api/runs/${s.run.id}/report`)).body.report as { id: string; reportNumber: string }
+  return { s, pending }
+}
+
 /** A statement as the database owner: what a test needs to stage a fault the application's own role may not cause. */
 const owner = (sql: string, params: unknown[] = []) => asOwner(async (client) => (await client.query(sql, params)).rows)
 const sha256 = (text: string | Buffer) => createHash('sha256').update(text).digest('hex')
@@ -177,10 +186,7 @@ describe('after issue nothing follows a rename', () => {
   }, 60_000)
 
   it('when the kept snapshot is not the one both signatures carry, then the renderer refuses to seal it and says why', async () => {
-    const s = await readyRun()
-    await sign(s.techAgent, s.run.id, 'performed_by').then((r) => expect(r.status).toBe(201))
-    await sign(s.repAgent, s.run.id, 'accepted_by').then((r) => expect(r.status).toBe(201))
-    const pending = (await s.repAgent.get(`/api/runs/${s.run.id}/report`)).body.report
+    const { pending } = await acceptedWithPendingReport()
     await ctx.db.query(`UPDATE report SET snapshot_sha256 = $2 WHERE id = $1`, [pending.id, 'f'.repeat(64)])
 
     await expect(ctx.services.reports.process(pending.id)).rejects.toThrow(/do not carry one snapshot/)
@@ -213,10 +219,7 @@ describe('issue never leaves an accepted run without its report', () => {
   }, 60_000)
 
   it('when two workers take the same report at once, then it is rendered once', async () => {
-    const s = await readyRun()
-    await sign(s.techAgent, s.run.id, 'performed_by').then((r) => expect(r.status).toBe(201))
-    await sign(s.repAgent, s.run.id, 'accepted_by').then((r) => expect(r.status).toBe(201))
-    const pending = (await s.repAgent.get(`/api/runs/${s.run.id}/report`)).body.report
+    const { pending } = await acceptedWithPendingReport()
     const [a, b] = await Promise.all([ctx.services.reports.process(pending.id), ctx.services.reports.process(pending.id)])
     // One render claims the report; the other finds it held (or already ready) and leaves it alone.
     expect([a.status, b.status]).toContain('ready')
