@@ -10,7 +10,7 @@ import { renderMailText, type MailService } from '../mail/mail.service'
 import type { StorageService } from '../storage/storage'
 import { recordAudit } from './audit.service'
 import { systemClock, type Clock } from './clock'
-import { keptSnapshot, SnapshotIntegrityError } from './run-record'
+import { keptSnapshot, MissingSnapshotError, SnapshotIntegrityError } from './run-record'
 
 /** Turns the report input into the sealed PDF (Chromium rendering, then the organisation's PKCS#7 seal). */
 export interface ReportRenderer {
@@ -229,6 +229,9 @@ export class ReportService {
     try {
       kept = await keptSnapshot(this.db.manager, report.runId, expected)
     } catch (err) {
+      if (err instanceof MissingSnapshotError) {
+        throw new SnapshotMismatchError(`report ${report.reportNumber}: the run was accepted before signed snapshots were kept, so there is no signed snapshot to render; it is not sealed (a re-test issues a new report)`)
+      }
       if (err instanceof SnapshotIntegrityError) throw new SnapshotMismatchError(`report ${report.reportNumber}: ${err.message}; it is not sealed`)
       throw err
     }

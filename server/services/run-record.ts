@@ -160,11 +160,13 @@ export async function storeSnapshot(manager: EntityManager, runId: string, kept:
 }
 
 export class SnapshotIntegrityError extends Error {}
+/** No snapshot is kept under that hash: a run signed before snapshots were kept (an older database). */
+export class MissingSnapshotError extends SnapshotIntegrityError {}
 
 /** A kept snapshot by its hash, with the hash of its bytes checked again: a snapshot that does not hash to its name is refused. */
 export async function keptSnapshot(manager: EntityManager, runId: string, sha256: string): Promise<KeptSnapshot> {
   const row = await manager.getRepository(RunSnapshotRow).findOneBy({ runId, sha256 })
-  if (!row) throw new SnapshotIntegrityError(`run ${runId} has no kept snapshot ${sha256}`)
+  if (!row) throw new MissingSnapshotError(`run ${runId} has no kept snapshot ${sha256}`)
   const actual = sha256Hex(row.content)
   if (actual !== sha256) throw new SnapshotIntegrityError(`the kept snapshot of run ${runId} hashes to ${actual}, not to the signed ${sha256}`)
   return { snapshot: parseRunSnapshot(row.content), json: row.content, sha256 }

@@ -20,7 +20,7 @@ import { AppError } from '../errors/app-error'
 import { ChecklistTemplate, Equipment, Project, Reading, Report, Run, RunChange, RunStep, Signature, TemplateVersion } from '../entities'
 import { fieldErrors } from '../middleware/validate'
 import { recordAudit } from './audit.service'
-import { attachmentViews, displayNames, evaluateAll, findingViews, keptSnapshot, readingView, signedSnapshotHash, stepView } from './run-record'
+import { attachmentViews, displayNames, evaluateAll, findingViews, keptSnapshot, MissingSnapshotError, readingView, signedSnapshotHash, stepView } from './run-record'
 import { systemClock, type Clock } from './clock'
 import type { ProjectService } from './project.service'
 
@@ -59,6 +59,11 @@ export class RunService {
   async context(user: SessionUser, runId: string, manager: EntityManager = this.db.manager, lock = false): Promise<RunContext> {
     const run = await manager.getRepository(Run).findOne({ where: { id: runId }, ...(lock ? { lock: { mode: 'pessimistic_write' as const } } : {}) })
     if (!run || !(await this.projects.canAccess(user, run.projectId)) || !this.mayRead(user, run.state)) throw AppError.notFound('Run')
+    return this.contextOf(run, manager)
+  }
+
+  /** What a run is judged with, for a run already found (and, where a person asks, already allowed). */
+  private async contextOf(run: Run, manager: EntityManager = this.db.manager): Promise<RunContext> {
     // One after another: inside a transaction one connection answers one query at a time.
     const project = await manager.getRepository(Project).findOneByOrFail({ id: run.projectId })
     const equipment = await manager.getRepository(Equipment).findOneByOrFail({ id: run.equipmentId })
@@ -218,12 +223,25 @@ export class RunService {
   private async signedDetail(run: Run): Promise<RunDetail> {
     const hash = await signedSnapshotHash(this.db.manager, run.id)
     if (!hash) throw new AppError('not_signed', 'This run has not been signed', 409)
-    const { snapshot } = await keptSnapshot(this.db.manager, run.id, hash)
-    return runDetailFromSnapshot(snapshot, { state: run.state, version: run.version, updatedAt: run.updatedAt.toISOString(), signatures: await this.signatures(run.id) })
+    let kept
+    try {
+      kept = await keptSnapshot(this.db.manager, run.id, hash)
+    } catch (err) {
+      if (!(err instanceof MissingSnapshotError)) throw err
+      // Signed before snapshots were kept (a database older than this rule): its rows are what there is, and the
+      // triggers have refused every change to them since acceptance.
+      return this.liveDetail(await this.contextOf(run))
+    }
+    return runDetailFromSnapshot(kept.snapshot, { state: run.state, version: run.version, updatedAt: run.updatedAt.toISOString(), signatures: await this.signatures(run.id) })
   }
 
   private async detailOf(ctx: RunContext): Promise<RunDetail> {
     if (!EDITABLE_RUN_STATES.includes(ctx.run.state)) return this.signedDetail(ctx.run)
+    return this.liveDetail(ctx)
+  }
+
+  /** The run from the live tables: what the runner shows while it is being filled in. */
+  private async liveDetail(ctx: RunContext): Promise<RunDetail> {
     const runId = ctx.run.id
     const manager = this.db.manager
     const [[summary], readings, steps, findings, attachments, signatures] = await Promise.all([

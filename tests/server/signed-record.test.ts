@@ -196,6 +196,24 @@ describe('after issue nothing follows a rename', () => {
   })
 })
 
+describe('a database from before signed snapshots were kept', () => {
+  it('when an accepted run has no kept snapshot, then its page still opens from its frozen rows, and a pending report of it is not sealed, with the reason', async () => {
+    const { s, pending } = await acceptedWithPendingReport()
+    await owner(`ALTER TABLE run_snapshot DISABLE TRIGGER run_snapshot_append_only`)
+    try {
+      await owner(`DELETE FROM run_snapshot WHERE run_id = $1`, [s.run.id])
+    } finally {
+      await owner(`ALTER TABLE run_snapshot ENABLE TRIGGER run_snapshot_append_only`)
+    }
+    const run = await s.repAgent.get(`/api/runs/${s.run.id}`)
+    expect(run.status).toBe(200)
+    expect(run.body.run).toMatchObject({ state: 'accepted', equipmentTag: 'CH-7' })
+    expect(run.body.run.readings.oilPressureRunning.entry).toEqual({ value: 36, unit: 'psid' })
+    await expect(ctx.services.reports.process(pending.id)).rejects.toThrow(/accepted before signed snapshots were kept/)
+    expect((await ctx.db.query(`SELECT status FROM report WHERE id = $1`, [pending.id]))[0].status).toBe('failed')
+  })
+})
+
 describe('issue never leaves an accepted run without its report', () => {
   it('when an accepted run has no report (an acceptance from before this rule), then the sweep creates and queues one, and it is sealed with the signed hash', async () => {
     const s = await readyRun()
