@@ -95,8 +95,11 @@ export class FindingService {
         finding.resolution = null
         finding.resolvedBy = null
         finding.resolvedAt = null
-      } else if (input.resolution !== undefined && finding.status === 'resolved') {
+      } else if (input.resolution !== undefined && finding.status === 'resolved' && input.resolution !== finding.resolution) {
+        // A new account of how it was resolved is that person's, at that moment.
         finding.resolution = input.resolution
+        finding.resolvedBy = user.id
+        finding.resolvedAt = now
       }
       const after = { severity: finding.severity, description: finding.description, status: finding.status, resolution: finding.resolution }
       if (!changedKeys(before, after).length) return

@@ -34,9 +34,10 @@ export async function assertDrawnSignature(dataUrl: string): Promise<void> {
     throw new AppError('invalid_signature_image', 'The drawn signature could not be read as a PNG image', 400, draw)
   }
   if (share < MIN_INK_SHARE) {
+    const what = share === 0 ? 'The signature pad is blank' : 'Too little is drawn for a signature'
     throw new AppError(
       'blank_signature',
-      `The signature pad is blank: draw your signature (at least ${(MIN_INK_SHARE * 100).toFixed(1)} % of the pad must carry ink; this drawing has ${(share * 100).toFixed(2)} %)`,
+      `${what}: draw your signature (at least ${(MIN_INK_SHARE * 100).toFixed(1)} % of the pad must carry ink; this drawing has ${(share * 100).toFixed(2)} %)`,
       400,
       draw,
     )

@@ -3,6 +3,7 @@ import { createHash, randomUUID } from 'node:crypto'
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
+import sharp from 'sharp'
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
 import { asOwner, createTestContext, resetDatabase, signedInAgent, TEST_PASSWORD, type TestContext } from '../helpers/context'
 import { BLANK_SIGNATURE, readyRun as readyRunIn, sign, SIGNATURE, snapshotOf } from '../helpers/runs'
@@ -108,6 +109,11 @@ describe('the signed snapshot is the record', () => {
     expect(blank.body.error.code).toBe('blank_signature')
     expect(blank.body.error.message).toMatch(/^The signature pad is blank: draw your signature \(at least 0\.2 % of the pad must carry ink; this drawing has 0\.00 %\)$/)
     expect(blank.body.error.fields).toEqual({ signatureImage: 'Draw your signature in the box, then sign' })
+    // One dot on a 300×100 pad: ink, but nowhere near a signature.
+    const dot = await sharp(Buffer.from('<svg xmlns="http://www.w3.org/2000/svg" width="300" height="100"><circle cx="150" cy="50" r="2" fill="#1d2a44"/></svg>')).png().toBuffer()
+    const tooLittle = await sign(s.techAgent, s.run.id, 'performed_by', { signatureImage: `data:image/png;base64,${dot.toString('base64')}` })
+    expect(tooLittle.status).toBe(400)
+    expect(tooLittle.body.error.message).toMatch(/^Too little is drawn for a signature: draw your signature \(at least 0\.2 % of the pad must carry ink; this drawing has 0\.0\d %\)$/)
     const garbage = await sign(s.techAgent, s.run.id, 'performed_by', { signatureImage: `data:image/png;base64,${Buffer.concat([PHOTO.subarray(0, 40), Buffer.alloc(200)]).toString('base64')}` })
     expect(garbage.status).toBe(400)
     expect(garbage.body.error.fields.signatureImage).toBeDefined()
