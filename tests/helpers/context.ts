@@ -26,11 +26,14 @@ export interface TestContext {
 /** A DataSource on the throwaway cluster and an app built on it, as a server process would. */
 export async function createTestContext(env: Record<string, string> = {}): Promise<TestContext> {
   const storageDir = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-files-'))
+  // A seal certificate of the test's own, never one in the checkout's data/ that `npm start` would then sign with.
+  const certDir = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-certs-'))
   const config = loadConfig({
     NODE_ENV: 'test',
     DATABASE_URL: inject('databaseUrl'),
     CLIENT_DIST: '/nonexistent-startproof-client',
     STORAGE_DIR: storageDir,
+    CERT_DIR: certDir,
     ...env,
   })
   const db = createDataSource(config.DATABASE_URL, { poolSize: 4 })
@@ -44,6 +47,7 @@ export async function createTestContext(env: Record<string, string> = {}): Promi
     async close() {
       await db.destroy()
       fs.rmSync(storageDir, { recursive: true, force: true })
+      fs.rmSync(certDir, { recursive: true, force: true })
     },
   }
 }
