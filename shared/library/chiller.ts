@@ -214,7 +214,7 @@ export const chillerStartupDefinition: ChecklistDefinition = {
             }),
             computed('capacity', 'Cooling capacity', 'cooling_capacity', 'TR', 'capacityTons(chwFlow, chwEntering, chwLeaving)',
               { type: 'design', key: 'capacity', lowerPct: 5, warnLowerPct: 2.5 },
-              { help: '500 × gpm × (entering − leaving) / 12 000 (ASHRAE Handbook—Fundamentals), judged at full load. Up to 5 % short passes, as the AHRI 550/590 full-load tolerance at a 10 °F range (from memory of the standard: check the edition); more than 2.5 % short is marginal (common practice). Field instruments are not a rating test: a shortfall is a reason to look.' }),
+              { help: '500 × gpm × (entering − leaving) / 12 000 (ASHRAE Handbook—Fundamentals), judged at full load. Up to 5 % short passes, a practitioner’s default modelled on the AHRI 550/590 full-load tolerance at a 10 °F range (confirm it against the edition your contract names); more than 2.5 % short is marginal (common practice). Field instruments are not a rating test: a shortfall is a reason to look.' }),
           ],
         },
         {
@@ -248,10 +248,10 @@ export const chillerStartupDefinition: ChecklistDefinition = {
           fields: [
             computed('specificPower', 'Efficiency (kW/ton)', 'specific_power', 'kWPerTon', 'kwPerTon(inputKw, capacity)',
               { type: 'design', key: 'designKwPerTon', upperPct: 5, warnUpperPct: 2.5 },
-              { help: 'Input kW over capacity in tons, against the design kW/ton. Up to 5 % above design passes, as the AHRI 550/590 full-load tolerance (from memory: check the edition); more than 2.5 % above is marginal (common practice).' }),
+              { help: 'Input kW over capacity in tons, against the design kW/ton. Up to 5 % above design passes, a practitioner’s default modelled on the AHRI 550/590 full-load tolerance (confirm it against the edition your contract names); more than 2.5 % above is marginal (common practice).' }),
             computed('heatBalance', 'Heat balance', 'percent', '%', 'heatBalancePct(tonsToKw(capacity), tonsToKw(condenserHeat), inputKw)',
               { type: 'range', min: -5, max: 5, warnMin: -3, warnMax: 3 },
-              { help: '((evaporator heat + input power) − condenser heat) / condenser heat. Within ±5 % (AHRI 550/590, from memory); beyond ±3 % is marginal (common practice). A larger imbalance means a flow or temperature reading is wrong: check them before believing capacity or kW/ton.' }),
+              { help: '((evaporator heat + input power) − condenser heat) / condenser heat. Within ±5 % (a practitioner’s default modelled on AHRI 550/590; confirm it against the edition your contract names); beyond ±3 % is marginal (common practice). A larger imbalance means a flow or temperature reading is wrong: check them before believing capacity or kW/ton.' }),
           ],
         },
         {
