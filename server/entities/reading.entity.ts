@@ -1,4 +1,5 @@
 import { Column, Entity, PrimaryColumn } from 'typeorm'
+import type { Disposition } from '@shared/record/disposition'
 import type { FieldEvaluation } from '@shared/rules/evaluate'
 
 /** The current value of one field of a run, with the server's verdict. Every change is also in the audit trail. */
@@ -21,6 +22,10 @@ export class Reading {
 
   @Column({ type: 'jsonb' })
   evaluation: FieldEvaluation
+
+  /** Why the field or step has no reading of its own (shared/record/disposition.ts); `notApplicable` is true whenever it is set. */
+  @Column({ type: 'jsonb', nullable: true })
+  disposition: Disposition | null
 
   @Column({ type: 'boolean', name: 'not_applicable', default: false })
   notApplicable: boolean

@@ -1,4 +1,5 @@
 import { Column, Entity, PrimaryColumn } from 'typeorm'
+import type { Disposition } from '@shared/record/disposition'
 
 /** A step's note and not-applicable state within a run. */
 @Entity({ name: 'run_step' })
@@ -11,6 +12,10 @@ export class RunStep {
 
   @Column({ type: 'text', default: '' })
   note: string
+
+  /** Why the field or step has no reading of its own (shared/record/disposition.ts); `notApplicable` is true whenever it is set. */
+  @Column({ type: 'jsonb', nullable: true })
+  disposition: Disposition | null
 
   @Column({ type: 'boolean', name: 'not_applicable', default: false })
   notApplicable: boolean

@@ -34,6 +34,10 @@ export class Signature {
   @Column({ type: 'char', length: 64, name: 'snapshot_sha256' })
   snapshotSha256: string
 
+  /** The exceptions the acceptor acknowledged (ids from shared/record/exceptions.ts), in the order listed; null for a performer. */
+  @Column({ type: 'jsonb', name: 'acknowledged_exceptions', nullable: true })
+  acknowledgedExceptions: string[] | null
+
   @Column({ type: 'boolean', default: false })
   voided: boolean
 

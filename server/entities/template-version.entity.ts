@@ -31,6 +31,10 @@ export class TemplateVersion {
   @Column({ type: 'integer', default: 1 })
   version: number
 
+  /** The starter library revision this version was published from; null for a version the firm wrote. */
+  @Column({ type: 'integer', name: 'starter_revision', nullable: true })
+  starterRevision: number | null
+
   @Column({ type: 'uuid', name: 'created_by', nullable: true })
   createdBy: string | null
 

@@ -9,6 +9,7 @@ import { CloseoutAndRetention1764669600000 } from './1764669600000-CloseoutAndRe
 import { ArchiveQueryIndexes1764673200000 } from './1764673200000-ArchiveQueryIndexes'
 import { SignedSnapshot1764680000000 } from './1764680000000-SignedSnapshot'
 import { EditVersions1764700000000 } from './1764700000000-EditVersions'
+import { Dispositions1764710000000 } from './1764710000000-Dispositions'
 
 /** Every migration in order. Listed by hand so tsx, Vitest and the CLI all load the same classes without a glob. */
 export const migrations = [
@@ -17,4 +18,5 @@ export const migrations = [
   ArchiveQueryIndexes1764673200000,
   SignedSnapshot1764680000000,
   EditVersions1764700000000,
+  Dispositions1764710000000,
 ]

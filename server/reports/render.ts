@@ -53,6 +53,8 @@ function compile(): Compiled {
   hbs.registerHelper('eq', (a: unknown, b: unknown) => a === b)
   hbs.registerHelper('or', (...args: unknown[]) => args.slice(0, -1).some(Boolean))
   hbs.registerHelper('lower', (s: unknown) => String(s ?? '').toLowerCase())
+  // A hash breaks only between groups of 16 hex digits (a <wbr> each), never inside one; copying gives it whole.
+  hbs.registerHelper('hashGroups', (s: unknown) => String(s ?? '').match(/.{1,16}/g) ?? [])
   const partialsDir = path.join(TEMPLATES_DIR, 'partials')
   for (const file of fs.readdirSync(partialsDir).filter((f) => f.endsWith('.hbs'))) {
     hbs.registerPartial(path.basename(file, '.hbs'), fs.readFileSync(path.join(partialsDir, file), 'utf8'))

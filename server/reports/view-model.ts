@@ -1,4 +1,5 @@
 import { DEFER } from '@shared/library/cautions'
+import { acceptanceWords, byOthersOf, countRunRecord, describeDisposition, DISPOSITION_WORDS, exceptionsOf, OUTCOME_WORDS, performerStatement, SEVERITY_WORDS as SEVERITY_MEANINGS, type CheckOutcome, type CheckResult, type RecordException, type RunCount } from '@shared/record'
 import { classify, parseExpression, worstVerdict, type FieldEvaluation, type Verdict } from '@shared/rules'
 import type { ChecklistField, ChecklistSection, ChecklistStep, RampRule } from '@shared/schemas/checklist'
 import { DESIGN_POINT_QUANTITIES, EQUIPMENT_KIND_LABELS, isDesignPointKey, isEquipmentKind, type DesignPointKey } from '@shared/schemas/design-point'
@@ -11,8 +12,11 @@ import { designPointRows, designPointUnit } from '@shared/format/design-point'
 
 /** A verdict as printed: its key (for the shape) and its word. */
 export interface VerdictView {
-  key: Verdict
+  /** The outcome (shared/record/counting.ts): a judged verdict, recorded, or a disposition. */
+  key: CheckOutcome
   word: string
+  /** Judged outcomes carry a shape; recorded values and dispositions are printed as words only. */
+  judged: boolean
 }
 
 export interface FieldRowView {
@@ -24,7 +28,9 @@ export interface FieldRowView {
   limits: string
   verdict: VerdictView | null
   message: string
+  /** The field has a disposition (its own, its step's, or its input's): greyed, not judged. */
   notApplicable: boolean
+  /** The disposition's words when printed on this row (null when the step prints it once for all its rows). */
   naReason: string | null
   justification: string | null
   findingRefs: string[]
@@ -36,7 +42,10 @@ export interface StepView {
   fields: FieldRowView[]
   note: string
   notApplicable: boolean
+  /** The step's disposition, or the one disposition every set-aside field of the step shares, printed once. */
   naReason: string | null
+  /** The tag beside the step title: "Done by others", "Carried over" … */
+  naTag: string | null
   cautions: string[]
 }
 
@@ -89,6 +98,42 @@ export interface RampView {
   message: string
 }
 
+export interface ExceptionView {
+  id: string
+  kindWord: string
+  severity: string | null
+  where: string
+  detail: string
+  followUp: string
+  findingRefs: string[]
+  dueDate: string | null
+}
+
+const EXCEPTION_WORDS: Record<RecordException['kind'], string> = { fail: 'Fail', marginal: 'Marginal, not justified', deferred: 'Deferred', not_done: 'Not done', finding: 'Open finding' }
+
+function exceptionView(e: RecordException, findingRefs: Map<string, string>): ExceptionView {
+  return {
+    id: e.id,
+    kindWord: EXCEPTION_WORDS[e.kind],
+    severity: e.severity ? SEVERITY_MEANINGS[e.severity].label : null,
+    where: e.where,
+    detail: e.detail.replace(/\.$/, ''),
+    followUp: e.followUp,
+    findingRefs: e.findingIds.map((id) => findingRefs.get(id)).filter((r): r is string => Boolean(r)),
+    dueDate: e.dueDate,
+  }
+}
+
+function describeTotalsLine(p: RunCount['totals']): string {
+  const parts = [`${p.pass} pass`, `${p.marginal} marginal`, `${p.fail} fail`, `${p.incomplete} incomplete`, `${p.recorded} recorded`]
+  if (p.notApplicable) parts.push(`${p.notApplicable} not applicable`)
+  if (p.byOthers) parts.push(`${p.byOthers} done by others`)
+  if (p.verifiedEarlier) parts.push(`${p.verifiedEarlier} carried over`)
+  if (p.deferred) parts.push(`${p.deferred} deferred`)
+  if (p.notDone) parts.push(`${p.notDone} not done`)
+  return `Of ${p.checks} checks: ${parts.join(', ')}.`
+}
+
 export interface FindingView {
   ref: string
   severity: string
@@ -133,8 +178,20 @@ export interface ReportView {
   generatedAt: string
   overall: VerdictView
   counts: Array<{ verdict: VerdictView | null; word: string; count: number }>
-  /** Every check of the run, optional and not-applicable ones included. */
+  /** Every check of the run (shared/record/counting.ts): judged, recorded and set aside; optional blanks are not checks. */
   totalChecks: number
+  judgedChecks: number
+  /** A re-test: which report it supersedes and for which checks, in words (null for a first report). */
+  supersedes: string | null
+  /** "93 checks: 61 pass, …" as one line. */
+  totalsLine: string
+  /** "Accepted" / "Accepted with 3 exceptions" (null until accepted). */
+  acceptance: string | null
+  exceptions: ExceptionView[]
+  /** Work recorded as done by others, by who and their record. */
+  byOthers: Array<{ by: string; reference: string | null; witnessed: boolean | null; where: string[]; checks: number }>
+  /** What the performer's signature states. */
+  performerStatement: string
   acceptedWithOpenFindings: boolean
   problems: ProblemView[]
   missing: ProblemView[]
@@ -158,8 +215,8 @@ export interface ReportView {
   verification: { contentSha256: string; verifyUrl: string; generatedAtUtc: string }
 }
 
-const VERDICT_WORDS: Record<Verdict, string> = { pass: 'Pass', marginal: 'Marginal', fail: 'Fail', incomplete: 'Incomplete' }
-const verdictView = (v: Verdict): VerdictView => ({ key: v, word: VERDICT_WORDS[v] })
+const JUDGED = new Set<CheckOutcome>(['pass', 'marginal', 'fail', 'incomplete'])
+const verdictView = (v: CheckOutcome | Verdict): VerdictView => ({ key: v, word: OUTCOME_WORDS[v], judged: JUDGED.has(v) })
 
 const SEVERITY_WORDS: Record<FindingSummary['severity'], string> = { minor: 'Minor', major: 'Major', critical: 'Critical' }
 const STATE_WORDS: Record<string, string> = { in_progress: 'In progress', submitted: 'Submitted, awaiting acceptance', accepted: 'Accepted', returned: 'Returned to the technician' }
@@ -187,6 +244,7 @@ const safeImage = (url: string | null | undefined): string | null => (url && IMA
 
 interface Context {
   input: ReportInput
+  count: RunCount
   system: UnitSystem
   fields: Map<string, { field: ChecklistField; step: ChecklistStep; section: ChecklistSection }>
   findingRefs: Map<string, string>
@@ -295,22 +353,27 @@ function valueText(field: ChecklistField, reading: RunReading | undefined, syste
 function fieldRow(ctx: Context, id: string): FieldRowView | null {
   const place = ctx.fields.get(id)
   if (!place) return null
-  const { field, step } = place
+  const { field } = place
   const reading = ctx.input.run.readings[id]
-  const stepNa = ctx.input.run.steps[step.id]?.notApplicable ?? false
-  const notApplicable = Boolean(reading?.notApplicable) || stepNa
+  const result = ctx.count.results.get(id) as CheckResult
   const evaluation = reading?.evaluation
   const refs = ctx.input.run.findings.filter((f) => f.fieldId === id).map((f) => ctx.findingRefs.get(f.id) as string)
+  const disposition = result.disposition
+  const outcome = result.outcome
+  let value: string
+  if (disposition) value = DISPOSITION_WORDS[disposition.kind].label
+  else if (outcome === null) value = '—'
+  else value = valueText(field, reading, ctx.system)
   return {
     id,
     label: field.label,
-    value: notApplicable ? 'Not applicable' : valueText(field, reading, ctx.system),
-    longText: field.kind === 'text' && !notApplicable && typeof evaluation?.answer === 'string' && evaluation.answer.length > 0,
-    limits: limitsInWords(field, evaluation, ctx.system, ctx.input.equipment.designPoint),
-    verdict: notApplicable || !evaluation ? null : verdictView(evaluation.verdict),
+    value,
+    longText: field.kind === 'text' && !disposition && typeof evaluation?.answer === 'string' && evaluation.answer.length > 0,
+    limits: disposition ? '—' : limitsInWords(field, evaluation, ctx.system, ctx.input.equipment.designPoint),
+    verdict: outcome === null || disposition ? null : verdictView(outcome),
     message: evaluation?.message ?? '',
-    notApplicable,
-    naReason: reading?.naReason ?? (stepNa ? ctx.input.run.steps[step.id]?.naReason ?? null : null),
+    notApplicable: disposition !== null,
+    naReason: disposition && result.dispositionFrom === 'field' ? describeDisposition(disposition) : disposition && result.dispositionFrom === 'input' ? `${describeDisposition(disposition)} (computed from ${ctx.fields.get(result.dispositionInput as string)?.field.label.toLowerCase() ?? 'a reading set aside'})` : null,
     justification: reading?.justification ?? null,
     findingRefs: refs,
   }
@@ -371,8 +434,11 @@ function designRows(ctx: Context): DesignRowView[] {
     related.forEach((field, i) => {
       const reading = ctx.input.run.readings[field.id]
       const evaluation = reading?.evaluation
-      const canonicalValue = reading?.notApplicable ? null : evaluation?.canonical ?? null
-      let measuredText = reading?.notApplicable ? 'Not applicable' : 'Not recorded'
+      // The same outcome as the checklist record and the counts: one rule (shared/record/counting.ts).
+      const result = ctx.count.results.get(field.id) as CheckResult
+      const setAside = result.disposition
+      const canonicalValue = setAside || result.outcome === null ? null : evaluation?.canonical ?? null
+      let measuredText = setAside ? DISPOSITION_WORDS[setAside.kind].label : result.outcome === null ? '—' : 'Not recorded'
       let deviation = '—'
       if (canonicalValue && field.quantity !== kind) {
         // A computed check against the design value (e.g. setpoint above the lowest allowed): its own value and unit.
@@ -396,7 +462,7 @@ function designRows(ctx: Context): DesignRowView[] {
         measuredLabel: field.label,
         measuredText,
         deviation,
-        verdict: evaluation && !reading?.notApplicable ? verdictView(evaluation.verdict) : null,
+        verdict: setAside || result.outcome === null ? null : verdictView(result.outcome),
         first: i === 0,
       })
     })
@@ -410,7 +476,7 @@ function rampView(ctx: Context): RampView | null {
   const reading = ctx.input.run.readings[place.field.id]
   const entry = seriesEntry(reading)
   const evaluation = reading?.evaluation
-  if (!entry || !evaluation || reading?.notApplicable) return null
+  if (!entry || !evaluation || ctx.count.results.get(place.field.id)?.disposition) return null
   const kind = place.field.quantity as QuantityKind
   const shown = evaluation.series?.unit ?? displayUnit(kind, ctx.system)
   const rule = place.field.rule as RampRule
@@ -516,20 +582,35 @@ export function buildReportView(input: ReportInput): ReportView {
   const findingRefs = new Map(run.findings.map((f, i) => [f.id, `F${i + 1}`]))
   const images = run.attachments.filter((a) => a.mimeType.startsWith('image/') && safeImage(input.photoDataUrls[a.id]))
   const photoRefs = new Map(images.map((a, i) => [a.id, `Photo ${i + 1}`]))
-  const ctx: Context = { input, system, fields, findingRefs, photoRefs }
+  const count = countRunRecord(run)
+  const ctx: Context = { input, count, system, fields, findingRefs, photoRefs }
 
   const allSections: SectionView[] = definition.sections.map((section) => ({
     id: section.id,
     title: section.title,
     steps: section.steps.map((step) => {
       const state = run.steps[step.id]
+      const stepDisposition = state ? (state.disposition ?? (state.notApplicable ? { kind: 'not_applicable' as const, reason: state.naReason, by: null, reference: null, witnessed: null, reportNumber: null, dueDate: null } : null)) : null
+      const fieldRows = rows(ctx, step.fields.map((f) => f.id))
+      // Reasons that repeat are printed once for the step, not on every row.
+      let naReason = stepDisposition ? describeDisposition(stepDisposition) : null
+      let naTag = stepDisposition ? DISPOSITION_WORDS[stepDisposition.kind].count : null
+      const own = fieldRows.filter((r) => r.naReason)
+      if (!stepDisposition && own.length > 1 && own.every((r) => r.naReason === own[0].naReason)) {
+        naReason = own[0].naReason
+        own.forEach((r) => (r.naReason = null))
+        const first = step.fields.find((f) => ctx.count.results.get(f.id)?.dispositionFrom === 'field')
+        const kind = first ? ctx.count.results.get(first.id)?.disposition?.kind : undefined
+        naTag = kind && own.length === fieldRows.length ? DISPOSITION_WORDS[kind].count : null
+      }
       return {
         id: step.id,
         title: step.title,
-        fields: rows(ctx, step.fields.map((f) => f.id)),
+        fields: fieldRows,
         note: state?.note ?? '',
-        notApplicable: state?.notApplicable ?? false,
-        naReason: state?.naReason ?? null,
+        notApplicable: stepDisposition !== null,
+        naReason,
+        naTag,
         cautions: step.cautions ?? [],
       }
     }),
@@ -541,24 +622,36 @@ export function buildReportView(input: ReportInput): ReportView {
   for (const section of allSections) {
     for (const step of section.steps) {
       for (const row of step.fields) {
-        if (row.notApplicable || !row.verdict) continue
-        const field = fields.get(row.id)!.field
+        const result = count.results.get(row.id) as CheckResult
+        const outcome = result.outcome
+        if (outcome === 'pass' || outcome === 'marginal' || outcome === 'fail' || outcome === 'incomplete') counted.push(outcome)
+        if (!row.verdict) continue
         const problem = { where: `${section.title} › ${step.title}`, label: row.label, verdict: row.verdict, message: row.message, findingRefs: row.findingRefs, justification: row.justification }
-        if (field.required !== false || row.verdict.key !== 'incomplete') counted.push(row.verdict.key)
-        if (row.verdict.key === 'fail' || row.verdict.key === 'marginal') problems.push(problem)
-        else if (row.verdict.key === 'incomplete' && field.required !== false) missing.push(problem)
+        if (outcome === 'fail' || outcome === 'marginal') problems.push(problem)
+        else if (outcome === 'incomplete') missing.push(problem)
       }
     }
   }
   problems.sort((a, b) => (a.verdict.key === b.verdict.key ? 0 : a.verdict.key === 'fail' ? -1 : 1))
 
-  const p = run.progress
-  const counts = [
+  const p = count.totals
+  const counts: ReportView['counts'] = [
     { verdict: verdictView('pass'), word: 'Pass', count: p.pass },
     { verdict: verdictView('marginal'), word: 'Marginal', count: p.marginal },
     { verdict: verdictView('fail'), word: 'Fail', count: p.fail },
     { verdict: verdictView('incomplete'), word: 'Incomplete', count: p.incomplete },
-    { verdict: null, word: 'Not applicable', count: p.notApplicable },
+    { verdict: null, word: 'Recorded', count: p.recorded },
+    ...(
+      [
+        ['not_applicable', p.notApplicable],
+        ['by_others', p.byOthers],
+        ['verified_earlier', p.verifiedEarlier],
+        ['deferred', p.deferred],
+        ['not_done', p.notDone],
+      ] as const
+    )
+      .filter(([, n]) => n > 0)
+      .map(([kind, n]) => ({ verdict: null, word: DISPOSITION_WORDS[kind].count, count: n })),
   ]
 
   const findings: FindingView[] = run.findings.map((f) => ({
@@ -587,9 +680,13 @@ export function buildReportView(input: ReportInput): ReportView {
     .filter((a) => !photoRefs.has(a.id))
     .map((a) => ({ name: a.originalName, where: whereOf(ctx, a.stepId, a.fieldId) }))
 
-  const recommendations: string[] = []
-  for (const f of findings) if (f.open) recommendations.push(`Resolve finding ${f.ref} (${f.severity.toLowerCase()}) and record the re-test: ${f.description}`)
-  for (const pr of problems) if (pr.verdict.key === 'marginal') recommendations.push(`Watch ${pr.label.toLowerCase()}: ${pr.message}.`)
+  // Every exception with its follow-up (the acceptor acknowledged each one), then the marginal results that were justified.
+  const exceptions = exceptionsOf(run, count)
+  const exceptionViews: ExceptionView[] = exceptions.map((e) => exceptionView(e, findingRefs))
+  const recommendations: string[] = exceptionViews.map((e) => `${e.kindWord}${e.severity ? ` (${e.severity.toLowerCase()})` : ''} — ${e.where}: ${e.detail}. ${e.followUp}${e.findingRefs.length ? ` (finding ${e.findingRefs.join(', ')})` : ''}`)
+  for (const pr of problems) {
+    if (pr.verdict.key === 'marginal' && !exceptions.some((e) => e.fieldId && pr.label === fields.get(e.fieldId)?.field.label)) recommendations.push(`Watch ${pr.label.toLowerCase()}: ${pr.message} (justified: ${pr.justification ?? 'resolved finding'}).`)
+  }
   // The starter template's maintenance handover is printed with the recommendations rather than in the record.
   const handoverSection = allSections.find((s) => s.id === HANDOVER_SECTION)
   const handoverTasks = handoverSection ? handoverSection.steps.flatMap((s) => s.fields) : []
@@ -641,7 +738,14 @@ export function buildReportView(input: ReportInput): ReportView {
     generatedAt: `${utc(input.generatedAtUtc)} (${dateTimeIn(input.generatedAtUtc, tz)})`,
     overall: verdictView(worstVerdict(counted)),
     counts,
-    totalChecks: p.pass + p.marginal + p.fail + p.incomplete + p.notApplicable,
+    totalChecks: p.checks,
+    judgedChecks: p.judged,
+    supersedes: null,
+    totalsLine: describeTotalsLine(p),
+    acceptance: run.state === 'accepted' ? acceptanceWords(exceptions.length) : null,
+    exceptions: exceptionViews,
+    byOthers: byOthersOf(definition, count),
+    performerStatement: performerStatement(byOthersOf(definition, count)),
     acceptedWithOpenFindings: run.state === 'accepted' && run.findings.some((f) => f.status === 'open'),
     problems,
     missing,

@@ -11,7 +11,7 @@ import { recordAudit } from './audit.service'
 import { changedKeys, editConflict } from './edit-conflict'
 import { attachmentViews, findingViews, keep, keptSnapshot, liveSnapshot, signedSnapshotHash } from './run-record'
 import { systemClock, type Clock } from './clock'
-import { fieldPlaces, progressOf } from '@shared/record'
+import { blockingFindings, byOthersOf, countRunRecord, exceptionsOf, fieldPlaces, safetyStop } from '@shared/record'
 import type { RunContext, RunService } from './run.service'
 
 /** What may be attached to a run: photos and PDFs, recognised by their bytes, not by the name a browser gave them. */
@@ -190,43 +190,47 @@ export class FindingService {
     const signedHash = EDITABLE_RUN_STATES.includes(ctx.run.state) ? null : await signedSnapshotHash(manager, runId)
     const kept = signedHash ? await keptSnapshot(manager, runId, signedHash) : keep(await liveSnapshot(manager, runId))
     const { snapshot } = kept
-    const readings = Object.values(snapshot.readings)
     const findings = snapshot.findings
-    const naSteps = new Set(Object.values(snapshot.steps).filter((s) => s.notApplicable).map((s) => s.stepId))
     const places = fieldPlaces(snapshot.definition)
-    const order = [...places.keys()]
-    readings.sort((a, b) => order.indexOf(a.fieldId) - order.indexOf(b.fieldId))
+    const count = countRunRecord(snapshot)
     const problems: ReviewItem[] = []
     const missingRequired: ReviewItem[] = []
-    for (const r of readings) {
-      const place = places.get(r.fieldId)
-      if (!place || r.notApplicable || naSteps.has(place.stepId)) continue
+    for (const result of count.results.values()) {
+      const r = snapshot.readings[result.fieldId]
+      const place = places.get(result.fieldId)!
       const item = (verdict: ReviewItem['verdict']): ReviewItem => ({
         sectionId: place.sectionId,
         stepId: place.stepId,
-        fieldId: r.fieldId,
+        fieldId: result.fieldId,
         label: place.field.label,
         verdict,
-        message: r.evaluation.message,
-        findingIds: findings.filter((f) => f.fieldId === r.fieldId).map((f) => f.id),
-        justification: r.justification,
+        message: r?.evaluation.message ?? `${place.field.label} has not been recorded`,
+        findingIds: findings.filter((f) => f.fieldId === result.fieldId).map((f) => f.id),
+        justification: r?.justification ?? null,
       })
-      const verdict = r.evaluation.verdict
-      if (verdict === 'fail' || verdict === 'marginal') problems.push(item(verdict))
-      else if (verdict === 'incomplete' && place.field.required !== false && !place.field.computed) missingRequired.push(item('incomplete'))
+      if (result.outcome === 'fail' || result.outcome === 'marginal') problems.push(item(result.outcome))
+      else if (result.outcome === 'incomplete' && !place.step.safety) missingRequired.push(item('incomplete'))
     }
+    problems.sort((a, b) => (a.verdict === b.verdict ? 0 : a.verdict === 'fail' ? -1 : 1))
+    const stop = safetyStop(snapshot.definition, Object.fromEntries(Object.values(snapshot.readings).map((r) => [r.fieldId, r.evaluation])))
+    const unansweredSafety = [...count.results.values()].filter((x) => x.outcome === 'incomplete' && places.get(x.fieldId)!.step.safety && !stop?.fieldIds.includes(x.fieldId))
     const unhandled = problems.filter((p) => p.verdict === 'fail' && !p.findingIds.length && !p.justification?.trim())
     const blockers = [
+      ...(stop ? [stop.message] : []),
+      ...unansweredSafety.map((x) => `${places.get(x.fieldId)!.field.label}: answer this pre-work safety item`),
       ...unhandled.map((p) => `${p.label} failed and has neither a finding nor a justification`),
-      ...missingRequired.map((m) => `${m.label} is required and has no value (record it or mark it not applicable with a reason)`),
+      ...missingRequired.map((m) => (places.get(m.fieldId)!.field.computed ? `${m.message}` : `${m.label} is required and has no value (record it, or give its disposition: not applicable, by others, verified earlier, deferred or not done)`)),
     ]
     if (!EDITABLE_RUN_STATES.includes(ctx.run.state)) blockers.push(`The run is ${ctx.run.state.replace('_', ' ')}`)
-    const counted = readings.map((r) => ({ fieldId: r.fieldId, verdict: r.evaluation.verdict, notApplicable: r.notApplicable }))
+    const exceptions = exceptionsOf(snapshot, count)
     return {
-      counts: progressOf(snapshot.definition, counted, naSteps),
+      counts: count.totals,
       problems,
       missingRequired,
       openFindings: findings.filter((f) => f.status === 'open'),
+      exceptions,
+      blockingFindings: blockingFindings(findings).map((f) => f.id),
+      byOthers: byOthersOf(snapshot.definition, count),
       canSign: blockers.length === 0,
       blockers,
       snapshotSha256: kept.sha256,

@@ -1,3 +1,4 @@
+import { countRunRecord, describeDisposition } from '@shared/record'
 import { createHash } from 'node:crypto'
 import { once } from 'node:events'
 import { setTimeout as delay } from 'node:timers/promises'
@@ -32,8 +33,9 @@ export const CSV_COLUMNS = {
   readings: [
     'section_id', 'section_title', 'step_id', 'step_title', 'field_id', 'field_label', 'field_kind', 'quantity', 'required', 'value', 'unit',
     'value_si', 'unit_si', 'answer', 'verdict', 'message', 'not_applicable', 'na_reason', 'justification', 'entered_by', 'entered_at_utc',
+    'disposition',
   ],
-  steps: ['section_id', 'section_title', 'step_id', 'step_title', 'not_applicable', 'na_reason', 'note', 'updated_by', 'updated_at_utc'],
+  steps: ['section_id', 'section_title', 'step_id', 'step_title', 'not_applicable', 'na_reason', 'note', 'updated_by', 'updated_at_utc', 'disposition'],
   findings: [
     'finding_id', 'step_id', 'field_id', 'severity', 'status', 'description', 'resolution', 'raised_by', 'raised_at_utc', 'resolved_by',
     'resolved_at_utc', 'files',
@@ -238,6 +240,8 @@ function publicItem(item: ArchiveItem & { storageKey?: string }) {
 }
 
 function runRows(run: RunDetail): { reading: Row[]; steps: Row[] } {
+  // The one counting rule: the CSV's outcome column is what the report prints and counts.
+  const count = countRunRecord(run)
   const reading: Row[] = []
   const steps: Row[] = []
   for (const section of run.definition.sections) {
@@ -249,7 +253,8 @@ function runRows(run: RunDetail): { reading: Row[]; steps: Row[] } {
         step_id: step.id,
         step_title: step.title,
         not_applicable: s?.notApplicable ?? false,
-        na_reason: s?.naReason,
+        disposition: s?.disposition?.kind ?? (s?.notApplicable ? 'not_applicable' : undefined),
+        na_reason: s?.disposition ? describeDisposition(s.disposition) : s?.naReason,
         note: s?.note,
         updated_by: s?.updatedByName,
         updated_at_utc: s?.updatedAt,
@@ -258,8 +263,9 @@ function runRows(run: RunDetail): { reading: Row[]; steps: Row[] } {
         const r = run.readings[field.id]
         const e = r?.evaluation
         const answer = e?.answer
-        // A field of a step marked not applicable is not applicable too, for the step's reason (as the report counts it).
-        const notApplicable = Boolean(r?.notApplicable || s?.notApplicable)
+        const result = count.results.get(field.id)
+        const disposition = result?.disposition ?? null
+        const notApplicable = disposition !== null
         const entered = r?.entry && typeof r.entry.value === 'number' && 'unit' in r.entry ? { value: r.entry.value, unit: String(r.entry.unit) } : null
         reading.push({
           section_id: section.id,
@@ -277,10 +283,11 @@ function runRows(run: RunDetail): { reading: Row[]; steps: Row[] } {
           value_si: e?.canonical ? Number(e.canonical.value.toPrecision(12)) : undefined,
           unit_si: symbol(field.quantity, e?.canonical?.unit),
           answer: typeof answer === 'boolean' ? (answer ? 'yes' : 'no') : Array.isArray(answer) ? answer.join('; ') : answer,
-          verdict: notApplicable ? 'not_applicable' : e?.verdict,
+          verdict: result?.outcome ?? 'not_a_check',
           message: notApplicable ? undefined : e?.message,
           not_applicable: notApplicable,
-          na_reason: r?.naReason ?? (s?.notApplicable ? s.naReason : undefined),
+          disposition: disposition?.kind,
+          na_reason: disposition ? describeDisposition(disposition) : undefined,
           justification: r?.justification,
           entered_by: r?.updatedByName,
           entered_at_utc: r?.updatedAt,
@@ -388,9 +395,12 @@ signatures.csv. Booleans are true/false. Empty means no value.
                   quantity names what is measured (e.g. differential pressure); value/unit are as entered (a
                   computed value rounded to six significant digits), unit written as the report writes it (°F,
                   psid, kPa (gauge), tons); value_si/unit_si are the same value in SI as stored (K, Pa, m³/s, W);
-                  answer holds yes/no, choice and text answers; verdict is pass, marginal, fail, incomplete or
-                  not_applicable (then not_applicable is true and na_reason says why, the step's reason when the
-                  whole step was not applicable).
+                  answer holds yes/no, choice and text answers; verdict is the check's outcome as the report
+                  counts it: pass, marginal, fail, incomplete, recorded (a value with no acceptance criterion,
+                  never a pass), not_a_check (an optional field left blank), or the disposition of a check set
+                  aside: not_applicable, by_others, verified_earlier, deferred, not_done (then not_applicable is
+                  true, disposition repeats the kind and na_reason says it in words: who and their record,
+                  the earlier report, the due date, or the reason; the step's when the whole step was set aside).
   steps.csv:      ${cols('steps')}
   findings.csv:   ${cols('findings')}
                   files lists the paths of the finding's photos inside this package, separated by "; ".

@@ -2,7 +2,7 @@ import { createHash, randomUUID } from 'node:crypto'
 import canonicalize from 'canonicalize'
 import sharp from 'sharp'
 import { In, type DataSource, type EntityManager } from 'typeorm'
-import { localTime, progressOf, runDetailFromSnapshot, signatureRecord, type RunSnapshot } from '@shared/record'
+import { countRunRecord, localTime, runDetailFromSnapshot, signatureRecord, type RunSnapshot } from '@shared/record'
 import type { ReportInput } from '@shared/types/report'
 import { AppError } from '../errors/app-error'
 import { Project, Report, Run, RunAttachment, Signature } from '../entities'
@@ -38,8 +38,7 @@ function yearIn(date: Date, timeZone: string): string {
  * a full-text vector over tag, serial, model, notes and findings. A rename later changes none of it.
  */
 async function indexForArchive(tx: EntityManager, reportId: string, snapshot: RunSnapshot, acceptedAt: Date, technicianId: string | null) {
-  const naSteps = new Set(Object.values(snapshot.steps).filter((s) => s.notApplicable).map((s) => s.stepId))
-  const counts = progressOf(snapshot.definition, Object.values(snapshot.readings).map((r) => ({ fieldId: r.fieldId, verdict: r.evaluation.verdict, notApplicable: r.notApplicable })), naSteps)
+  const counts = countRunRecord(snapshot).totals
   const openFindings = snapshot.findings.filter((f) => f.status === 'open').length
   const notes = Object.values(snapshot.steps).map((s) => s.note).filter(Boolean).join(' ')
   const findings = snapshot.findings.map((f) => `${f.description} ${f.resolution ?? ''}`).join(' ')

@@ -2,7 +2,7 @@ import { createHash } from 'node:crypto'
 import { In, type EntityManager } from 'typeorm'
 import type { ChecklistDefinition } from '@shared/schemas/checklist'
 import type { FieldEntry } from '@shared/schemas/reading'
-import { buildRunSnapshot, canonicalSnapshot, fieldPlaces, parseRunSnapshot, type RunSnapshot } from '@shared/record'
+import { buildRunSnapshot, canonicalSnapshot, countRun, dispositionOf, fieldPlaces, parseRunSnapshot, type RunCount, type RunSnapshot } from '@shared/record'
 import { evaluateChecklist, type FieldEvaluation } from '@shared/rules'
 import type { AnyDesignPoint } from '@shared/schemas/design-point'
 import type { FindingSummary, RunAttachment as RunAttachmentView, RunReading, RunStepState } from '@shared/types/run'
@@ -42,10 +42,27 @@ export async function displayNames(manager: EntityManager, ids: (string | null)[
   return new Map(users.map((u) => [u.id, u.displayName]))
 }
 
+/**
+ * The run's counts from its stored rows, by the one counting rule (`countRun`): a row's value is known from its
+ * canonical value (numbers) or its verdict; its disposition from the column (older rows: the not-applicable flag).
+ */
+export function countRows(
+  definition: ChecklistDefinition,
+  readings: Pick<Reading, 'fieldId' | 'verdict' | 'canonicalValue' | 'disposition' | 'notApplicable' | 'naReason'>[],
+  steps: Pick<RunStep, 'stepId' | 'disposition' | 'notApplicable' | 'naReason'>[],
+): RunCount {
+  return countRun(
+    definition,
+    readings.map((r) => ({ fieldId: r.fieldId, verdict: r.verdict, hasValue: r.canonicalValue !== null && r.canonicalValue !== undefined, disposition: dispositionOf(r) })),
+    steps.map((s) => ({ stepId: s.stepId, disposition: dispositionOf(s) })),
+  )
+}
+
 export function readingView(r: Reading, names: Map<string, string>): RunReading {
   return {
     fieldId: r.fieldId,
     entry: r.entry as FieldEntry | null,
+    disposition: dispositionOf(r),
     notApplicable: r.notApplicable,
     naReason: r.naReason,
     justification: r.justification,
@@ -60,6 +77,7 @@ export function stepView(s: RunStep, names: Map<string, string>): RunStepState {
   return {
     stepId: s.stepId,
     note: s.note,
+    disposition: dispositionOf(s),
     notApplicable: s.notApplicable,
     naReason: s.naReason,
     version: s.version,

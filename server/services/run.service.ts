@@ -2,10 +2,10 @@ import { isDeepStrictEqual } from 'node:util'
 import { DataSource, In, type EntityManager } from 'typeorm'
 import * as yup from 'yup'
 import type { ChecklistDefinition } from '@shared/schemas/checklist'
-import { fieldPlaces, progressOf, runDetailFromSnapshot, signatureRecord } from '@shared/record'
+import { dispositionOf, fieldPlaces, runDetailFromSnapshot, safetyStop, signatureRecord } from '@shared/record'
 import { entrySchemaFor, type FieldEntry } from '@shared/schemas/reading'
 import { physicalBoundsProblem } from '@shared/rules'
-import type { ReadingChangeInput, StepChangeInput } from '@shared/schemas/run'
+import { requestedDisposition, type ReadingChangeInput, type StepChangeInput } from '@shared/schemas/run'
 import type { SessionUser } from '@shared/types/api'
 import {
   EDITABLE_RUN_STATES,
@@ -20,7 +20,7 @@ import { AppError } from '../errors/app-error'
 import { ChecklistTemplate, Equipment, Project, Reading, Report, Run, RunChange, RunStep, Signature, TemplateVersion } from '../entities'
 import { fieldErrors } from '../middleware/validate'
 import { recordAudit } from './audit.service'
-import { attachmentViews, displayNames, evaluateAll, findingViews, keptSnapshot, MissingSnapshotError, readingView, signedSnapshotHash, stepView } from './run-record'
+import { attachmentViews, countRows, displayNames, evaluateAll, findingViews, keptSnapshot, MissingSnapshotError, readingView, signedSnapshotHash, stepView } from './run-record'
 import { systemClock, type Clock } from './clock'
 import type { ProjectService } from './project.service'
 
@@ -137,8 +137,8 @@ export class RunService {
       this.db.getRepository(Project).findBy({ id: In([...new Set(runs.map((r) => r.projectId))]) }),
       this.db.getRepository(Equipment).findBy({ id: In([...new Set(runs.map((r) => r.equipmentId))]) }),
       this.db.getRepository(TemplateVersion).findBy({ id: In([...new Set(runs.map((r) => r.templateVersionId))]) }),
-      this.db.getRepository(Reading).find({ where: { runId: In(ids) }, select: { runId: true, fieldId: true, verdict: true, notApplicable: true } }),
-      this.db.getRepository(RunStep).find({ where: { runId: In(ids), notApplicable: true }, select: { runId: true, stepId: true } }),
+      this.db.getRepository(Reading).find({ where: { runId: In(ids) }, select: { runId: true, fieldId: true, verdict: true, canonicalValue: true, notApplicable: true, naReason: true, disposition: true } }),
+      this.db.getRepository(RunStep).find({ where: { runId: In(ids), notApplicable: true }, select: { runId: true, stepId: true, notApplicable: true, naReason: true, disposition: true } }),
       this.db.query(`SELECT run_id, count(*)::int AS n FROM finding WHERE run_id = ANY($1::uuid[]) AND status = 'open' GROUP BY run_id`, [ids]) as Promise<{ run_id: string; n: number }[]>,
       // An accepted run is named as it was issued (its report keeps the signed snapshot's identity), not as renamed since.
       this.db.getRepository(Report).find({ where: { runId: In(ids) }, select: { runId: true, equipmentTag: true, equipmentKind: true, projectCode: true, projectName: true } }),
@@ -150,7 +150,6 @@ export class RunService {
     return runs.map((run) => {
       const version = vMap.get(run.templateVersionId)!
       const definition = version.definition as unknown as ChecklistDefinition
-      const naSteps = new Set(steps.filter((s) => s.runId === run.id).map((s) => s.stepId))
       const project = pMap.get(run.projectId)!
       const eq = eMap.get(run.equipmentId)!
       const report = run.state === 'accepted' ? issued.find((r) => r.runId === run.id) : undefined
@@ -170,7 +169,7 @@ export class RunService {
         startedAt: run.startedAt.toISOString(),
         startedByName: run.startedBy ? (names.get(run.startedBy) ?? null) : null,
         updatedAt: run.updatedAt.toISOString(),
-        progress: progressOf(definition, readings.filter((r) => r.runId === run.id), naSteps),
+        progress: countRows(definition, readings.filter((r) => r.runId === run.id), steps.filter((s) => s.runId === run.id)).totals,
         openFindings: openFindings.find((f) => f.run_id === run.id)?.n ?? 0,
       }
     })
@@ -278,6 +277,14 @@ export class RunService {
         throw new AppError('unknown_field', `There is no field ${fieldId} in version ${ctx.version.number} of ${ctx.template.name}`, 400, { [fieldId]: 'Not a field of this run’s checklist version' })
       }
       const { field } = place
+      const disposition = requestedDisposition(input)
+      if (disposition && place.step.safety) {
+        throw new AppError('safety_item', `${field.label} is a pre-work safety item: answer it; it cannot be set aside`, 400, { disposition: 'A pre-work safety item cannot be set aside', [fieldId]: 'Answer this safety item' })
+      }
+      if (!place.step.safety) {
+        const stop = safetyStop(ctx.definition, Object.fromEntries((await tx.getRepository(Reading).find({ where: { runId }, select: { fieldId: true, verdict: true } })).map((r) => [r.fieldId, r])))
+        if (stop) throw new AppError('run_stopped', stop.message, 409, { [fieldId]: stop.message })
+      }
       if (field.computed && input.entry !== null) {
         throw new AppError('computed_field', `${field.label} is computed from other readings and cannot be entered`, 400, { [fieldId]: 'Computed from other readings' })
       }
@@ -296,9 +303,15 @@ export class RunService {
       }
       const repo = tx.getRepository(Reading)
       const current = await repo.findOneByOrFail({ runId, fieldId })
-      const next = { entry: entry as Record<string, unknown> | null, notApplicable: input.notApplicable ?? false, naReason: input.notApplicable ? (input.naReason ?? null) : null, justification: input.justification ?? null }
+      const next = {
+        entry: disposition ? null : (entry as Record<string, unknown> | null),
+        disposition,
+        notApplicable: disposition !== null,
+        naReason: disposition?.reason ?? null,
+        justification: input.justification ?? null,
+      }
       const unchanged = isDeepStrictEqual(
-        { entry: current.entry, notApplicable: current.notApplicable, naReason: current.naReason, justification: current.justification },
+        { entry: current.entry, disposition: dispositionOf(current), notApplicable: current.notApplicable, naReason: current.naReason, justification: current.justification },
         next,
       )
       if (current.version !== input.baseVersion && !unchanged) {
@@ -313,7 +326,7 @@ export class RunService {
           { current: view },
         )
       }
-      const before = { entry: current.entry, notApplicable: current.notApplicable, naReason: current.naReason, justification: current.justification, verdict: current.verdict }
+      const before = { entry: current.entry, disposition: dispositionOf(current), justification: current.justification, verdict: current.verdict }
       const now = this.clock()
       if (!unchanged) {
         Object.assign(current, next, { version: current.version + 1, updatedBy: user.id, updatedAt: now })
@@ -332,7 +345,7 @@ export class RunService {
           entityId: `${runId}/${fieldId}`,
           projectId: ctx.run.projectId,
           before,
-          after: { entry: saved.entry, notApplicable: saved.notApplicable, naReason: saved.naReason, justification: saved.justification, verdict: saved.verdict },
+          after: { entry: saved.entry, disposition: saved.disposition, justification: saved.justification, verdict: saved.verdict },
           occurredAt: now,
         })
         await tx.query(`UPDATE run SET updated_at = $2 WHERE id = $1`, [runId, now])
@@ -342,8 +355,8 @@ export class RunService {
     const detail = await this.db.getRepository(Reading).findBy({ runId })
     const views = await this.readingViews(detail)
     const ctx = await this.context(user, runId)
-    const naSteps = new Set((await this.db.getRepository(RunStep).findBy({ runId, notApplicable: true })).map((s) => s.stepId))
-    return { reading: views[fieldId], readings: views, progress: progressOf(ctx.definition, detail, naSteps), duplicate: outcome.duplicate }
+    const steps = await this.db.getRepository(RunStep).findBy({ runId })
+    return { reading: views[fieldId], readings: views, progress: countRows(ctx.definition, detail, steps).totals, duplicate: outcome.duplicate }
   }
 
   /** Re-evaluates every field and stores the verdicts that changed (computed fields follow their inputs). */
@@ -368,8 +381,13 @@ export class RunService {
       const repo = tx.getRepository(RunStep)
       const step = await repo.findOneBy({ runId, stepId })
       if (!step) throw new AppError('unknown_step', `There is no step ${stepId} in this run’s checklist`, 400, { [stepId]: 'Not a step of this run’s checklist version' })
-      const next = { note: input.note ?? '', notApplicable: input.notApplicable ?? false, naReason: input.notApplicable ? (input.naReason ?? null) : null }
-      const unchanged = isDeepStrictEqual({ note: step.note, notApplicable: step.notApplicable, naReason: step.naReason }, next)
+      const disposition = requestedDisposition(input)
+      const stepDef = ctx.definition.sections.flatMap((s) => s.steps).find((s) => s.id === stepId)
+      if (disposition && stepDef?.safety) {
+        throw new AppError('safety_item', `${stepDef.title} is the pre-work safety step: answer its items; it cannot be set aside`, 400, { disposition: 'The pre-work safety step cannot be set aside' })
+      }
+      const next = { note: input.note ?? '', disposition, notApplicable: disposition !== null, naReason: disposition?.reason ?? null }
+      const unchanged = isDeepStrictEqual({ note: step.note, disposition: dispositionOf(step), notApplicable: step.notApplicable, naReason: step.naReason }, next)
       if (step.version !== input.baseVersion && !unchanged) {
         const view = await this.stepView(step)
         const who = view.updatedByName ?? 'Someone'
@@ -377,15 +395,15 @@ export class RunService {
       }
       const now = this.clock()
       if (!unchanged) {
-        const before = { note: step.note, notApplicable: step.notApplicable, naReason: step.naReason }
+        const before = { note: step.note, disposition: dispositionOf(step) }
         Object.assign(step, next, { version: step.version + 1, updatedBy: user.id, updatedAt: now })
         await repo.save(step)
-        if (before.notApplicable !== step.notApplicable) {
+        if ((before.disposition !== null) !== step.notApplicable) {
           const readings = await tx.getRepository(Reading).findBy({ runId })
           const naSteps = new Set((await repo.findBy({ runId, notApplicable: true })).map((s) => s.stepId))
           await this.rejudge(tx, ctx, readings, naSteps)
         }
-        await recordAudit(tx, { actorId: user.id, action: 'step.set', entityType: 'run_step', entityId: `${runId}/${stepId}`, projectId: ctx.run.projectId, before, after: next, occurredAt: now })
+        await recordAudit(tx, { actorId: user.id, action: 'step.set', entityType: 'run_step', entityId: `${runId}/${stepId}`, projectId: ctx.run.projectId, before, after: { note: next.note, disposition: next.disposition }, occurredAt: now })
         await tx.query(`UPDATE run SET updated_at = $2 WHERE id = $1`, [runId, now])
       }
       await tx.getRepository(RunChange).insert({ id: input.changeId, runId, target: 'step', targetId: stepId, userId: user.id, appliedAt: now })

@@ -5,7 +5,7 @@ import type { SessionUser } from '@shared/types/api'
 import { ROLE_LABELS } from '@shared/types/roles'
 import type { SignatureRecord } from '@shared/types/report'
 import { EDITABLE_RUN_STATES } from '@shared/types/run'
-import { describeSnapshotChanges, inkShare, MEANING_LABELS, MIN_INK_SHARE, SEPARATION_OF_DUTIES, signatureRecord } from '@shared/record'
+import { blockingFindings, countRunRecord, describeSnapshotChanges, exceptionsOf, inkShare, MEANING_LABELS, MIN_INK_SHARE, SEPARATION_OF_DUTIES, signatureRecord } from '@shared/record'
 import { verifyPassword } from '../auth/passwords'
 import { AppError } from '../errors/app-error'
 import { ProjectMember, Signature, User } from '../entities'
@@ -101,6 +101,7 @@ export class SigningService {
       if (live) throw new AppError('already_signed', `This run already carries a "${MEANING_LABELS[meaning]}" signature`, 409)
 
       let snapshotSha256: string
+      let acknowledgedExceptions: string[] | null = null
       if (meaning === 'performed_by') {
         const now = keep(await liveSnapshot(tx, runId))
         if (now.sha256 !== input.snapshotSha256) {
@@ -129,6 +130,33 @@ export class SigningService {
           )
         }
         snapshotSha256 = signed.sha256
+        // Accepted with exceptions: every open item is acknowledged by id; a critical finding waits for its resolution.
+        const count = countRunRecord(signed.snapshot)
+        const critical = blockingFindings(signed.snapshot.findings)
+        if (critical.length) {
+          throw new AppError(
+            'critical_findings_open',
+            `A critical finding is open (${critical.map((f) => f.description).join('; ')}): it blocks acceptance until it is resolved and the run signed again`,
+            409,
+            { acknowledgedExceptions: 'A critical finding is open' },
+          )
+        }
+        const exceptions = exceptionsOf(signed.snapshot, count)
+        const acknowledged = new Set(input.acknowledgedExceptions ?? [])
+        const missing = exceptions.filter((e) => !acknowledged.has(e.id))
+        const unknown = [...acknowledged].filter((id) => !exceptions.some((e) => e.id === id))
+        if (missing.length || unknown.length) {
+          throw new AppError(
+            'exceptions_not_acknowledged',
+            missing.length
+              ? `Acknowledge each exception before accepting: ${missing.map((e) => e.where).join('; ')}`
+              : `These are not exceptions of this run: ${unknown.join(', ')}; open the review again`,
+            409,
+            { acknowledgedExceptions: missing.length ? `${missing.length} exception${missing.length === 1 ? '' : 's'} not acknowledged` : 'Not exceptions of this run' },
+            { exceptions },
+          )
+        }
+        acknowledgedExceptions = exceptions.map((e) => e.id)
       }
 
       const now = this.clock()
@@ -142,6 +170,7 @@ export class SigningService {
         timeZone: ctx.project.timeZone,
         imageDataUrl: input.signatureImage,
         snapshotSha256,
+        acknowledgedExceptions,
       })
       const state = meaning === 'performed_by' ? 'submitted' : 'accepted'
       await recordAudit(tx, {
@@ -151,7 +180,7 @@ export class SigningService {
         entityId: runId,
         projectId: ctx.run.projectId,
         before: { state: ctx.run.state },
-        after: { state, signatureId: signature.id, snapshotSha256, meaning },
+        after: { state, signatureId: signature.id, snapshotSha256, meaning, ...(acknowledgedExceptions ? { acknowledgedExceptions } : {}) },
         occurredAt: now,
       })
       let reportId: string | null = null

@@ -1,3 +1,5 @@
 export * from './counting'
+export * from './disposition'
+export * from './exceptions'
 export * from './signature'
 export * from './snapshot'

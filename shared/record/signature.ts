@@ -20,6 +20,7 @@ export interface SignatureRow {
   timeZone: string
   imageDataUrl: string
   snapshotSha256: string
+  acknowledgedExceptions?: string[] | null
   voided: boolean
   voidedAt: Date | null
   voidReason: string | null
@@ -39,6 +40,7 @@ export function signatureRecord(s: SignatureRow): SignatureRecord {
     timeZone: s.timeZone,
     imageDataUrl: s.imageDataUrl,
     snapshotSha256: s.snapshotSha256,
+    acknowledgedExceptions: s.acknowledgedExceptions ?? null,
     voided: s.voided,
     voidedAt: s.voidedAt?.toISOString() ?? null,
     voidReason: s.voidReason,
@@ -69,3 +71,19 @@ export function inkShare(rgba: Uint8Array | Uint8ClampedArray, width: number, he
 /** Why two people must sign: the words the refusal gives. */
 export const SEPARATION_OF_DUTIES =
   'The person who performed a start-up cannot also accept it: acceptance must come from a different person, whatever their role is now'
+
+/**
+ * What the performer's signature states. Work recorded as done by others is named, so nobody signs "I performed"
+ * for a first start the manufacturer's engineer made.
+ */
+export function performerStatement(byOthers: ReadonlyArray<{ by: string; reference: string | null; where: string[] }>): string {
+  if (!byOthers.length) return 'I performed this start-up and the readings are true.'
+  const who = byOthers.map((g) => `${g.where.join('; ')} by ${g.by}${g.reference ? ` (their record ${g.reference})` : ''}`).join('; ')
+  return `I performed this start-up and the readings are true, except the items recorded as done by others: ${who}.`
+}
+
+/** What the acceptor's signature states, with the exceptions acknowledged. */
+export function acceptorStatement(exceptions: number): string {
+  if (!exceptions) return 'I accept this start-up on behalf of the owner.'
+  return `I accept this start-up on behalf of the owner with the ${exceptions} exception${exceptions === 1 ? '' : 's'} listed, each acknowledged.`
+}

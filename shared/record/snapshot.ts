@@ -3,7 +3,8 @@ import type { ChecklistDefinition } from '../schemas/checklist'
 import type { RecordEquipment, RecordProject, RecordRun } from '../types/record'
 import type { SignatureRecord } from '../types/signature'
 import type { FindingSummary, RunAttachment, RunDetail, RunReading, RunState, RunStepState } from '../types/run'
-import { progressOf } from './counting'
+import { countRunRecord } from './counting'
+import { dispositionOf } from './disposition'
 
 /**
  * The signed snapshot of a run: everything its verdicts and its report depend on, frozen when the performer signs.
@@ -11,13 +12,15 @@ import { progressOf } from './counting'
  * the run page, the report, the archive row, the handover package and Verify read this, never the live tables.
  */
 export const SNAPSHOT_FORMAT = 'startproof.run-snapshot'
-export const SNAPSHOT_VERSION = 1
+/** Version 2 adds each reading's and step's `disposition`; version 1 snapshots are read as they were kept. */
+export const SNAPSHOT_VERSION = 2
+export const SNAPSHOT_VERSIONS_READ = [1, 2] as const
 
 export type { RecordEquipment, RecordProject, RecordRun } from '../types/record'
 
 export interface RunSnapshot {
   format: typeof SNAPSHOT_FORMAT
-  version: typeof SNAPSHOT_VERSION
+  version: (typeof SNAPSHOT_VERSIONS_READ)[number]
   run: RecordRun
   /** The pinned checklist version's definition, whole. */
   definition: ChecklistDefinition
@@ -47,8 +50,8 @@ const pick = <T extends object, K extends keyof T>(o: T, keys: readonly K[]): Pi
 const PROJECT_KEYS = ['id', 'code', 'name', 'organizationName', 'siteName', 'siteAddress', 'timeZone', 'unitSystem', 'reportPaper'] as const
 const EQUIPMENT_KEYS = ['id', 'projectId', 'tag', 'kind', 'location', 'manufacturer', 'model', 'serialNumber', 'yearBuilt', 'refrigerant', 'designPoint'] as const
 const RUN_KEYS = ['id', 'projectId', 'equipmentId', 'templateId', 'templateName', 'templateVersionId', 'templateVersionNumber', 'startedAt', 'startedByName'] as const
-const READING_KEYS = ['fieldId', 'entry', 'notApplicable', 'naReason', 'justification', 'evaluation', 'version', 'updatedAt', 'updatedByName'] as const
-const STEP_KEYS = ['stepId', 'note', 'notApplicable', 'naReason', 'version', 'updatedAt', 'updatedByName'] as const
+const READING_KEYS = ['fieldId', 'entry', 'disposition', 'notApplicable', 'naReason', 'justification', 'evaluation', 'version', 'updatedAt', 'updatedByName'] as const
+const STEP_KEYS = ['stepId', 'note', 'disposition', 'notApplicable', 'naReason', 'version', 'updatedAt', 'updatedByName'] as const
 const FINDING_KEYS = ['id', 'runId', 'stepId', 'fieldId', 'severity', 'description', 'status', 'resolution', 'resolvedAt', 'resolvedByName', 'createdAt', 'createdByName', 'attachmentIds', 'version'] as const
 const ATTACHMENT_KEYS = ['id', 'sha256', 'mimeType', 'sizeBytes', 'originalName', 'createdAt', 'stepId', 'fieldId', 'findingId', 'url', 'thumbnailUrl'] as const
 
@@ -82,7 +85,7 @@ export function canonicalSnapshot(snapshot: RunSnapshot): string {
 /** Reads a kept snapshot back; refuses anything that is not one. */
 export function parseRunSnapshot(json: string): RunSnapshot {
   const value = JSON.parse(json) as RunSnapshot
-  if (value?.format !== SNAPSHOT_FORMAT || value.version !== SNAPSHOT_VERSION) throw new Error('not a run snapshot of a known format')
+  if (value?.format !== SNAPSHOT_FORMAT || !(SNAPSHOT_VERSIONS_READ as readonly number[]).includes(value.version)) throw new Error('not a run snapshot of a known format')
   return value
 }
 
@@ -117,8 +120,9 @@ export function describeSnapshotChanges(signed: RunSnapshot, now: RunSnapshot): 
 
 /** The run as every screen and the report show it after signing: the snapshot, with the run's state and signatures. */
 export function runDetailFromSnapshot(s: RunSnapshot, live: { state: RunState; version: number; updatedAt: string; signatures: SignatureRecord[] }): RunDetail {
-  const naSteps = new Set(Object.values(s.steps).filter((x) => x.notApplicable).map((x) => x.stepId))
-  const counted = Object.values(s.readings).map((r) => ({ fieldId: r.fieldId, verdict: r.evaluation.verdict, notApplicable: r.notApplicable }))
+  // A version 1 snapshot has no dispositions: its "not applicable" flags are read as the not-applicable disposition.
+  const readings = Object.fromEntries(Object.entries(s.readings).map(([k, r]) => [k, r.disposition === undefined ? { ...r, disposition: dispositionOf(r) } : r]))
+  const steps = Object.fromEntries(Object.entries(s.steps).map(([k, x]) => [k, x.disposition === undefined ? { ...x, disposition: dispositionOf(x) } : x]))
   return {
     id: s.run.id,
     projectId: s.run.projectId,
@@ -135,13 +139,13 @@ export function runDetailFromSnapshot(s: RunSnapshot, live: { state: RunState; v
     startedAt: s.run.startedAt,
     startedByName: s.run.startedByName,
     updatedAt: live.updatedAt,
-    progress: progressOf(s.definition, counted, naSteps),
+    progress: countRunRecord({ definition: s.definition, readings, steps }).totals,
     openFindings: s.findings.filter((f) => f.status === 'open').length,
     unitSystem: s.project.unitSystem,
     definition: s.definition,
     designPoint: s.equipment.designPoint,
-    readings: s.readings,
-    steps: s.steps,
+    readings,
+    steps,
     findings: s.findings,
     attachments: s.attachments,
     signatures: live.signatures,

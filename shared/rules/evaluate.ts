@@ -306,7 +306,7 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
     display: { value: displayValue, unit: shown, text: fmtIn(displayValue, shown, kind) },
     limits: null,
   }
-  if (!field.rule) return { ...base, message: `${field.label} ${base.display!.text} recorded` }
+  if (!field.rule) return { ...base, verdict: 'recorded', message: `${field.label} ${base.display!.text} recorded` }
   let resolved: ResolvedRule
   try {
     resolved = resolveRule(field.rule, field, context, shown)
@@ -342,7 +342,7 @@ function evaluateSeries(field: ChecklistField, entry: FieldEntry | null | undefi
   const fmt = (v: number) => fmtIn(v, shown, kind)
   const base: FieldEvaluation = { ...incomplete(field, false, ''), verdict: 'pass' }
   if (!field.rule || field.rule.type !== 'ramp') {
-    return { ...base, message: `${field.label} recorded (${points.length} points)` }
+    return { ...base, verdict: 'recorded', message: `${field.label} recorded (${points.length} points)` }
   }
   const r = field.rule
   const toShown = (v: number | undefined) => (v === undefined ? undefined : convert(v, unit, shown, kind))
@@ -387,7 +387,8 @@ export function evaluateField(field: ChecklistField, entry: FieldEntry | null | 
       const value = (entry as { value: unknown }).value
       if (typeof value !== 'boolean') throw new EngineeringError('INVALID_ENTRY', `${field.label} must be answered yes or no`, { fieldId: field.id })
       const base = { ...incomplete(field, false, ''), answer: value }
-      if (field.rule?.type === 'yes_no' && field.rule.expected !== value) {
+      if (field.rule?.type !== 'yes_no') return { ...base, verdict: 'recorded', message: `${field.label}: ${answerText(value)}` }
+      if (field.rule.expected !== value) {
         return { ...base, verdict: 'fail', message: `${field.label}: ${answerText(value)}; ${answerText(field.rule.expected)} is required` }
       }
       return { ...base, verdict: 'pass', message: `${field.label}: ${answerText(value)}` }
@@ -398,7 +399,8 @@ export function evaluateField(field: ChecklistField, entry: FieldEntry | null | 
       const choice = (field.choices ?? []).find((c) => c.value === value)
       if (!choice) throw new EngineeringError('INVALID_ENTRY', `${field.label} has no choice "${String(value)}"`, { fieldId: field.id })
       const base = { ...incomplete(field, false, ''), answer: choice.value }
-      if (field.rule?.type !== 'choice' || field.rule.pass.includes(choice.value)) return { ...base, verdict: 'pass', message: `${field.label}: ${choice.label}` }
+      if (field.rule?.type !== 'choice') return { ...base, verdict: 'recorded', message: `${field.label}: ${choice.label}` }
+      if (field.rule.pass.includes(choice.value)) return { ...base, verdict: 'pass', message: `${field.label}: ${choice.label}` }
       if (field.rule.marginal?.includes(choice.value)) return { ...base, verdict: 'marginal', message: `${field.label}: ${choice.label} is acceptable with reservations` }
       const accepted = (field.choices ?? []).filter((c) => field.rule?.type === 'choice' && field.rule.pass.includes(c.value)).map((c) => c.label)
       return { ...base, verdict: 'fail', message: `${field.label}: ${choice.label} is not acceptable (acceptable: ${accepted.join(', ')})` }
@@ -407,7 +409,7 @@ export function evaluateField(field: ChecklistField, entry: FieldEntry | null | 
       if (isEmpty(entry)) return incomplete(field, false, notRecorded(field))
       const value = (entry as { value: unknown }).value
       if (typeof value !== 'string') throw new EngineeringError('INVALID_ENTRY', `${field.label} must be text`, { fieldId: field.id })
-      return { ...incomplete(field, false, ''), verdict: 'pass', answer: value, message: `${field.label} recorded` }
+      return { ...incomplete(field, false, ''), verdict: 'recorded', answer: value, message: `${field.label} recorded` }
     }
     case 'photo': {
       if (isEmpty(entry)) return incomplete(field, false, notRecorded(field))
@@ -415,7 +417,7 @@ export function evaluateField(field: ChecklistField, entry: FieldEntry | null | 
       if (!Array.isArray(value) || !value.every((v) => typeof v === 'string')) {
         throw new EngineeringError('INVALID_ENTRY', `${field.label} must list attachment ids`, { fieldId: field.id })
       }
-      return { ...incomplete(field, false, ''), verdict: 'pass', answer: value, message: `${field.label}: ${value.length} photo${value.length === 1 ? '' : 's'} attached` }
+      return { ...incomplete(field, false, ''), verdict: 'recorded', answer: value, message: `${field.label}: ${value.length} photo${value.length === 1 ? '' : 's'} attached` }
     }
   }
 }

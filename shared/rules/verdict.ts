@@ -1,4 +1,5 @@
-export const VERDICTS = ['pass', 'marginal', 'fail', 'incomplete'] as const
+/** `recorded`: a value with no acceptance criterion, shown neutrally and never counted as a pass. */
+export const VERDICTS = ['pass', 'marginal', 'fail', 'incomplete', 'recorded'] as const
 export type Verdict = (typeof VERDICTS)[number]
 
 /** Fail limits and the warning band inside them, all in one unit; any may be absent. */
@@ -29,9 +30,9 @@ export function classify(value: number, limits: LimitSet): Classification {
   return { verdict: 'pass' }
 }
 
-const SEVERITY: Record<Verdict, number> = { pass: 0, marginal: 1, incomplete: 2, fail: 3 }
+const SEVERITY: Record<Verdict, number> = { recorded: -1, pass: 0, marginal: 1, incomplete: 2, fail: 3 }
 
-/** The most severe of several verdicts (fail > incomplete > marginal > pass); pass for none. */
+/** The most severe of several verdicts (fail > incomplete > marginal > pass > recorded); pass for none. */
 export function worstVerdict(verdicts: Iterable<Verdict>): Verdict {
   let worst: Verdict = 'pass'
   for (const v of verdicts) if (SEVERITY[v] > SEVERITY[worst]) worst = v

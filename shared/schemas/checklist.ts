@@ -326,6 +326,12 @@ export const stepSchema = object({
   id: string().required('${path} is required').matches(OTHER_ID, '${path} must use only letters, digits, _, . and -'),
   title: text().required('${path} is required'),
   help: text().optional(),
+  /**
+   * A pre-work safety step (permits, lockout, arc flash): its items cannot be set aside with a disposition, and a "No"
+   * stops the run, with `stop` said to the technician, instead of becoming a fail.
+   */
+  safety: boolean().optional(),
+  stop: text().optional(),
   cautions: array(text().required()).optional(),
   fields: array(fieldSchema).required('${path} is required').min(1, '${path} needs at least one field'),
 }).exact('${path} has unknown keys: ${properties}')

@@ -1,4 +1,5 @@
 import * as yup from 'yup'
+import { dispositionSchema, normalizeDisposition, type Disposition } from '../record/disposition'
 import { changesSomething, editVersionSchema } from './edit'
 
 const uuid = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i
@@ -34,6 +35,9 @@ export const readingChangeSchema = yup
     authorId,
     baseVersion: yup.number().typeError('${path} must be a number').integer().min(0).required('${path} is required'),
     entry: yup.mixed().nullable().default(null),
+    /** Why the field has no reading of its own; null clears it. */
+    disposition: dispositionSchema.nullable().default(null),
+    /** Older clients: `notApplicable` with `naReason` is the not-applicable disposition. */
     notApplicable: yup.boolean().strict().default(false),
     naReason: reason.nullable().default(null),
     justification: reason.nullable().default(null),
@@ -43,7 +47,7 @@ export const readingChangeSchema = yup
     if (!v?.notApplicable || (v.naReason && v.naReason.trim())) return true
     return this.createError({ path: 'naReason', message: 'A reason is required when a field is marked not applicable' })
   })
-export type ReadingChangeInput = yup.InferType<typeof readingChangeSchema>
+export type ReadingChangeInput = Omit<yup.InferType<typeof readingChangeSchema>, 'disposition'> & { disposition?: Disposition | null }
 
 /** `PUT /api/runs/:runId/steps/:stepId`: the step's note and not-applicable state. */
 export const stepChangeSchema = yup
@@ -52,6 +56,7 @@ export const stepChangeSchema = yup
     authorId,
     baseVersion: yup.number().typeError('${path} must be a number').integer().min(0).required('${path} is required'),
     note: yup.string().max(8000, '${path} must be at most 8000 characters').default(''),
+    disposition: dispositionSchema.nullable().default(null),
     notApplicable: yup.boolean().strict().default(false),
     naReason: reason.nullable().default(null),
   })
@@ -60,7 +65,14 @@ export const stepChangeSchema = yup
     if (!v?.notApplicable || (v.naReason && v.naReason.trim())) return true
     return this.createError({ path: 'naReason', message: 'A reason is required when a step is marked not applicable' })
   })
-export type StepChangeInput = yup.InferType<typeof stepChangeSchema>
+export type StepChangeInput = Omit<yup.InferType<typeof stepChangeSchema>, 'disposition'> & { disposition?: Disposition | null }
+
+/** The disposition a reading or step change asks for: the structured one, or an older client's "not applicable". */
+export function requestedDisposition(input: { disposition?: Partial<Disposition> | null; notApplicable?: boolean; naReason?: string | null }): Disposition | null {
+  if (input.disposition?.kind) return normalizeDisposition(input.disposition as Disposition)
+  if (input.notApplicable) return normalizeDisposition({ kind: 'not_applicable', reason: input.naReason ?? null })
+  return null
+}
 
 export const FINDING_SEVERITIES = ['minor', 'major', 'critical'] as const
 
@@ -132,6 +144,11 @@ export const signSchema = yup
     signatureImage,
     /** The SHA-256 of the run as the signer reviewed it (from the review summary); a run that changed since is refused. */
     snapshotSha256: yup.string().required('snapshotSha256 is required').matches(/^[0-9a-f]{64}$/, 'snapshotSha256 must be 64 hex digits'),
+    /** Acceptance: the ids of the review's exceptions, each acknowledged by the owner's representative. */
+    acknowledgedExceptions: yup
+      .array(yup.string().required().max(200, '${path} is not an exception id'))
+      .max(2000, '${path} lists too many exceptions')
+      .optional(),
   })
   .noUnknown()
 export type SignInput = yup.InferType<typeof signSchema>

@@ -3,6 +3,9 @@ import type { FieldEntry } from '../schemas/reading'
 import type { FieldEvaluation } from '../rules/evaluate'
 import type { AttachmentSummary } from './api'
 import type { SignatureRecord } from './signature'
+import type { Disposition } from '../record/disposition'
+import type { RecordException } from '../record/exceptions'
+import type { ByOthersItem } from '../record/counting'
 
 /** DESIGN.md §6: in_progress → submitted (performer signed) → accepted, or returned to the technician. */
 export type RunState = 'in_progress' | 'submitted' | 'accepted' | 'returned'
@@ -11,16 +14,27 @@ export const EDITABLE_RUN_STATES: readonly RunState[] = ['in_progress', 'returne
 export type FindingSeverity = 'minor' | 'major' | 'critical'
 export type FindingStatus = 'open' | 'resolved'
 
+/** The counts of a run by the one counting rule (shared/record/counting.ts `countRun`). */
 export interface RunProgress {
-  /** Fields that count (required, not not-applicable). */
+  /** Every check: judged, recorded, or with a disposition (an optional field left blank is not a check). */
+  checks: number
+  /** Checks with an acceptance criterion: pass + marginal + fail + incomplete. */
+  judged: number
+  /** The same as `checks` (what the runner's progress counts towards). */
   required: number
-  /** Of those, how many have a value. */
+  /** Checks with an outcome other than incomplete. */
   answered: number
   pass: number
   marginal: number
   fail: number
   incomplete: number
+  /** Values with no acceptance criterion: shown neutrally, never a pass. */
+  recorded: number
   notApplicable: number
+  byOthers: number
+  verifiedEarlier: number
+  deferred: number
+  notDone: number
 }
 
 export interface RunSummary {
@@ -48,7 +62,11 @@ export interface RunSummary {
 export interface RunReading {
   fieldId: string
   entry: FieldEntry | null
+  /** Why the field has no reading of its own (not applicable, by others, verified earlier, deferred, not done). */
+  disposition: Disposition | null
+  /** True when a disposition is set (kept for records made before dispositions existed). */
   notApplicable: boolean
+  /** The disposition's reason. */
   naReason: string | null
   /** Why a fail is accepted without a finding. */
   justification: string | null
@@ -62,6 +80,7 @@ export interface RunReading {
 export interface RunStepState {
   stepId: string
   note: string
+  disposition: Disposition | null
   notApplicable: boolean
   naReason: string | null
   version: number
@@ -142,6 +161,12 @@ export interface RunReview {
   /** Required fields with no value and not marked not applicable. */
   missingRequired: ReviewItem[]
   openFindings: FindingSummary[]
+  /** What is not closed: listed in the acceptance dialog, acknowledged by the acceptor, printed on the report. */
+  exceptions: RecordException[]
+  /** Ids of open critical findings: acceptance waits until they are resolved. */
+  blockingFindings: string[]
+  /** What others did, for the performer's statement ("… except the items recorded as done by others"). */
+  byOthers: ByOthersItem[]
   /** Fails with neither a finding nor a justification, and missing required values, block signing. */
   canSign: boolean
   blockers: string[]

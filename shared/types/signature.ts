@@ -17,6 +17,8 @@ export interface SignatureRecord {
   imageDataUrl: string
   /** SHA-256 (hex) of the canonical snapshot of the run that was signed. */
   snapshotSha256: string
+  /** Acceptance: the exceptions (shared/record/exceptions.ts ids) the signer acknowledged; null for a performer. */
+  acknowledgedExceptions: string[] | null
   voided: boolean
   voidedAt: string | null
   voidReason: string | null
