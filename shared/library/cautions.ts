@@ -23,4 +23,4 @@ export const DEFER =
   "This checklist supports, and does not replace, the manufacturer's start-up instructions, local codes and licensed practice; where they differ, follow them."
 
 export const SAFETY_TEST =
-  "Test each safety only as the manufacturer describes and with the manufacturer's or controls technician's agreement; a test that cannot be made safely is recorded as not done, never forced."
+  "Test each safety only as the manufacturer describes and with the manufacturer's or controls technician's agreement; a test that cannot be made safely is given the disposition \u201cnot done\u201d with the reason, never forced; it stays on the report as an exception until it is made."

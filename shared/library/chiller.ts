@@ -32,6 +32,8 @@ export const chillerStartupDefinition: ChecklistDefinition = {
           id: 'prestart-safety',
           title: 'Before work starts',
           help: 'These cautions apply to the whole start-up. Read them with everyone taking part before any other step.',
+          safety: true,
+          stop: "Do not proceed until the permits, the lockout/tagout arrangements and the arc-flash boundary are agreed with the site and the manufacturer's start-up instructions for this machine are on hand and read.",
           cautions: [LOCKOUT, ARC_FLASH, REFRIGERANT, NEVER_BYPASS, COUPLINGS, DEFER],
           fields: [
             yesNo('safetyBriefing', 'Permits, lockout/tagout arrangements and the arc-flash boundary agreed with the site'),

@@ -38,6 +38,8 @@ export const pumpStartupDefinition: ChecklistDefinition = {
           id: 'pump-safety',
           title: 'Before work starts',
           help: 'These cautions apply to the whole start-up.',
+          safety: true,
+          stop: 'Do not proceed until the lockout/tagout arrangements are agreed with the site.',
           cautions: [LOCKOUT, ARC_FLASH, COUPLINGS, DEFER],
           fields: [yesNo('pumpSafetyBriefing', 'Lockout/tagout arrangements agreed with the site before any hands-on work')],
         },

@@ -1,3 +1,4 @@
+import { hasCriterion } from '../../shared/record/counting'
 import { describe, expect, it } from 'vitest'
 import { KW_PER_TON, saturationPressurePsig } from '../../shared/engineering'
 import { STARTER_LIBRARY, type StarterTemplate } from '../../shared/library'
@@ -463,10 +464,13 @@ for (const suite of SUITES) {
       expect([...seen.keys()].filter((id) => !ids.has(id))).toEqual([])
     })
 
-    it('when a good start-up is recorded in full, then every field passes', () => {
+    it('when a good start-up is recorded in full, then every judged field passes and every field without a criterion is recorded', () => {
       const all = evaluateChecklist(def, { unitSystem: 'IP', designPoint: suite.design, readings: suite.good })
-      const notPass = Object.values(all).filter((e) => e.verdict !== 'pass').map((e) => `${e.fieldId}: ${e.verdict} — ${e.message}`)
-      expect(notPass).toEqual([])
+      const byId = new Map(listFields(def).map((f) => [f.field.id, f.field]))
+      const wrong = Object.values(all)
+        .filter((e) => e.verdict !== (hasCriterion(byId.get(e.fieldId)!) ? 'pass' : 'recorded'))
+        .map((e) => `${e.fieldId}: ${e.verdict} — ${e.message}`)
+      expect(wrong).toEqual([])
       expect(Object.keys(all).length).toBe(listFields(def).length)
     })
 

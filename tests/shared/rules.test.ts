@@ -141,9 +141,10 @@ describe('evaluateField on other kinds', () => {
     ['starterType', { value: 'solid_state' }, 'pass', 'Starter type: Solid-state'],
     ['starterType', { value: 'wye_delta' }, 'marginal', 'Starter type: Wye-delta is acceptable with reservations'],
     ['starterType', { value: 'across_line' }, 'fail', 'Starter type: Across-the-line is not acceptable (acceptable: Solid-state)'],
-    ['remarks', { value: 'Strainers cleaned' }, 'pass', 'Remarks recorded'],
+    // Free text and photos have no acceptance criterion: recorded, never a pass.
+    ['remarks', { value: 'Strainers cleaned' }, 'recorded', 'Remarks recorded'],
     ['remarks', null, 'incomplete', 'Remarks was not recorded (optional)'],
-    ['nameplatePhoto', { value: ['a1', 'a2'] }, 'pass', 'Nameplate photo: 2 photos attached'],
+    ['nameplatePhoto', { value: ['a1', 'a2'] }, 'recorded', 'Nameplate photo: 2 photos attached'],
     ['nameplatePhoto', { value: [] }, 'incomplete', 'Nameplate photo has not been recorded'],
     ['oilPressure', undefined, 'incomplete', 'Oil pressure has not been recorded'],
     ['softStart', { value: 4.2, unit: 's' }, 'pass', 'Start to full speed 4.2 s is within 3 to 8 s'],
