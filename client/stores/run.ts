@@ -5,6 +5,7 @@ import { evaluateField, type FieldEvaluation } from '@shared/rules'
 import type { ChecklistField, ChecklistSection, ChecklistStep } from '@shared/schemas/checklist'
 import type { AnyDesignPoint } from '@shared/schemas/design-point'
 import { entrySchemaFor, type FieldEntry } from '@shared/schemas/reading'
+import { countRun, dispositionOf, dispositionSchema, stepTotals, type Disposition } from '@shared/record'
 import type { FindingCreateInput, FindingUpdateInput } from '@shared/schemas/run'
 import {
   EDITABLE_RUN_STATES,
@@ -34,12 +35,15 @@ import { useSessionStore } from '@/stores/session'
 /** What the technician has entered for a field and the server does not confirm yet. */
 export interface LocalReading {
   entry: FieldEntry | null
+  /** Why the field has no reading of its own; `notApplicable` and `naReason` follow it (older queued changes have only those). */
+  disposition: Disposition | null
   notApplicable: boolean
   naReason: string | null
   justification: string | null
 }
 export interface LocalStep {
   note: string
+  disposition: Disposition | null
   notApplicable: boolean
   naReason: string | null
 }
@@ -58,7 +62,25 @@ export function othersWaitingText(waiting: WaitingAuthor[]): string | null {
   return waiting.map((w) => `${w.authorName} has ${w.count} change${w.count === 1 ? '' : 's'} to this run waiting on this device`).join('; ')
 }
 
-const readingContent = (r: LocalReading): LocalReading => ({ entry: r.entry, notApplicable: r.notApplicable, naReason: r.naReason, justification: r.justification })
+/** The content of a field change; a disposition decides `notApplicable` and `naReason` (an older change has only those). */
+const readingContent = (r: Partial<LocalReading>): LocalReading => {
+  const disposition = r.disposition === undefined ? dispositionOf(r) : r.disposition
+  return { entry: disposition ? null : (r.entry ?? null), disposition, notApplicable: disposition !== null, naReason: disposition?.reason ?? null, justification: r.justification ?? null }
+}
+const stepContent = (s: Partial<LocalStep>): LocalStep => {
+  const disposition = s.disposition === undefined ? dispositionOf(s) : s.disposition
+  return { note: s.note ?? '', disposition, notApplicable: disposition !== null, naReason: disposition?.reason ?? null }
+}
+function dispositionProblem(d: Disposition | null): string | null {
+  if (!d) return null
+  try {
+    dispositionSchema.validateSync(d, { abortEarly: true })
+    return null
+  } catch (err) {
+    if (ValidationError.isError(err)) return err.errors[0] ?? err.message
+    throw err
+  }
+}
 const sameJson = (a: unknown, b: unknown) => JSON.stringify(a) === JSON.stringify(b)
 /** JSON with object keys sorted: the database hands entries back with its own key order. */
 function canonicalJson(value: unknown): string {
@@ -138,20 +160,21 @@ export const useRunStore = defineStore('run', () => {
     const mine = local.value[fieldId]
     if (mine) return mine
     const r = serverReading(fieldId)
-    return { entry: r?.entry ?? null, notApplicable: r?.notApplicable ?? false, naReason: r?.naReason ?? null, justification: r?.justification ?? null }
+    return readingContent({ entry: r?.entry ?? null, disposition: r ? dispositionOf(r) : null, justification: r?.justification ?? null })
   }
   function workingStep(stepId: string): LocalStep {
     const mine = localSteps.value[stepId]
     if (mine) return mine
     const s = run.value?.steps[stepId]
-    return { note: s?.note ?? '', notApplicable: s?.notApplicable ?? false, naReason: s?.naReason ?? null }
+    return stepContent({ note: s?.note ?? '', disposition: s ? dispositionOf(s) : null })
   }
 
   const workingEntries = computed(() => {
     const out: Record<string, FieldEntry | null> = {}
-    for (const [id] of fieldIndex.value) {
+    for (const [id, { step }] of fieldIndex.value) {
       const w = working(id)
-      out[id] = w.notApplicable ? null : w.entry
+      // Set aside (the field or its whole step): no value, as the server evaluates it.
+      out[id] = w.disposition || workingStep(step.id).disposition ? null : w.entry
     }
     return out
   })
@@ -189,28 +212,30 @@ export const useRunStore = defineStore('run', () => {
 
   function isAnswered(fieldId: string): boolean {
     const w = working(fieldId)
-    if (w.notApplicable) return true
+    if (w.disposition) return true
     const e = liveEvaluations.value[fieldId]
     return !!e && e.verdict !== 'incomplete'
   }
 
-  /** Per step: fields that count, answered, and the verdicts among them. */
+  /** The one counting rule (shared/record/counting.ts) over what this device shows now: the server counts the same way. */
+  const liveCount = computed(() => {
+    const def = definition.value
+    if (!def) return null
+    const readings = [...fieldIndex.value.keys()].map((id) => {
+      const e = liveEvaluations.value[id]
+      return { fieldId: id, verdict: e?.verdict ?? 'incomplete', hasValue: e ? e.display != null || e.answer !== undefined : false, disposition: working(id).disposition }
+    })
+    const stepStates = steps.value.map(({ step }) => ({ stepId: step.id, disposition: workingStep(step.id).disposition }))
+    return countRun(def, readings, stepStates)
+  })
+
+  /** Per step: its checks, how many have an outcome, and the fails and marginals among them. */
   function stepProgress(step: ChecklistStep) {
-    const stepNa = workingStep(step.id).notApplicable
-    let required = 0
-    let answered = 0
-    let fail = 0
-    let marginal = 0
-    // Counted as the server counts them: required fields that apply, computed ones once their inputs are in.
-    for (const f of step.fields) {
-      const e = liveEvaluations.value[f.id]
-      if (e?.verdict === 'fail') fail++
-      if (e?.verdict === 'marginal') marginal++
-      if (f.required === false || stepNa || working(f.id).notApplicable) continue
-      required++
-      if (isAnswered(f.id)) answered++
-    }
-    return { required, answered, fail, marginal, done: required === answered, notApplicable: stepNa }
+    const count = liveCount.value
+    const p = count ? stepTotals(count, step.id) : null
+    const required = p?.checks ?? 0
+    const answered = p?.answered ?? 0
+    return { required, answered, fail: p?.fail ?? 0, marginal: p?.marginal ?? 0, done: required === answered, notApplicable: workingStep(step.id).disposition !== null }
   }
 
   const overallProgress = computed(() => {
@@ -238,10 +263,10 @@ export const useRunStore = defineStore('run', () => {
     for (const c of changes) {
       if (c.kind === 'reading') {
         const b = c.body as LocalReading
-        local.value[c.targetId] = readingContent({ entry: b.entry ?? null, notApplicable: !!b.notApplicable, naReason: b.naReason ?? null, justification: b.justification ?? null })
+        local.value[c.targetId] = readingContent(b)
       } else {
         const b = c.body as unknown as LocalStep
-        localSteps.value[c.targetId] = { note: b.note ?? '', notApplicable: !!b.notApplicable, naReason: b.naReason ?? null }
+        localSteps.value[c.targetId] = stepContent(b)
       }
     }
   }
@@ -266,7 +291,7 @@ export const useRunStore = defineStore('run', () => {
     const left = queue.value?.changesFor('reading', change.targetId).length ?? 0
     const mine = local.value[change.targetId]
     const sent = change.body as LocalReading
-    if (!left && mine && canonicalJson(readingContent(mine)) === canonicalJson(readingContent({ entry: sent.entry ?? null, notApplicable: !!sent.notApplicable, naReason: sent.naReason ?? null, justification: sent.justification ?? null }))) {
+    if (!left && mine && canonicalJson(readingContent(mine)) === canonicalJson(readingContent(sent))) {
       delete local.value[change.targetId]
     }
     scheduleSnapshot()
@@ -278,7 +303,7 @@ export const useRunStore = defineStore('run', () => {
     const left = queue.value?.changesFor('step', change.targetId).length ?? 0
     const mine = localSteps.value[change.targetId]
     const sent = change.body as unknown as LocalStep
-    if (!left && mine && sameJson(mine, { note: sent.note ?? '', notApplicable: !!sent.notApplicable, naReason: sent.naReason ?? null })) delete localSteps.value[change.targetId]
+    if (!left && mine && sameJson(stepContent(mine), stepContent(sent))) delete localSteps.value[change.targetId]
     scheduleSnapshot()
   }
 
@@ -387,8 +412,9 @@ export const useRunStore = defineStore('run', () => {
   }
 
   function validateReading(field: ChecklistField, r: LocalReading): string | null {
-    if (r.notApplicable && !r.naReason?.trim()) return 'Give the reason this does not apply.'
-    if (r.notApplicable || r.entry === null) return null
+    const setAside = dispositionProblem(r.disposition)
+    if (setAside) return setAside
+    if (r.disposition || r.entry === null) return null
     try {
       entrySchemaFor(field).validateSync(r.entry, { strict: true })
       return null
@@ -418,14 +444,15 @@ export const useRunStore = defineStore('run', () => {
 
   async function setStep(stepId: string, patch: Partial<LocalStep>) {
     if (!canEdit.value || !queue.value) return
-    const next = { ...workingStep(stepId), ...patch }
+    const next = stepContent({ ...workingStep(stepId), ...patch })
     localSteps.value[stepId] = next
     delete stepErrors.value[stepId]
-    if (next.notApplicable && !next.naReason?.trim()) {
-      stepErrors.value[stepId] = 'Give the reason this step does not apply.'
+    const problem = dispositionProblem(next.disposition)
+    if (problem) {
+      stepErrors.value[stepId] = problem
       return
     }
-    await queue.value.enqueue('step', stepId, { note: next.note, notApplicable: next.notApplicable, naReason: next.notApplicable ? next.naReason : null }, run.value?.steps[stepId]?.version ?? 0)
+    await queue.value.enqueue('step', stepId, { note: next.note, disposition: next.disposition, notApplicable: next.notApplicable, naReason: next.naReason }, run.value?.steps[stepId]?.version ?? 0)
   }
 
   async function keepTheirs(kind: 'reading' | 'step', targetId: string) {
@@ -521,7 +548,7 @@ export const useRunStore = defineStore('run', () => {
   return {
     run, local, localSteps, fieldErrors, stepErrors, loadError, isLoading, fromDevice, storageProblem, queue,
     definition, steps, fieldIndex, canEdit, liveEvaluations, overallProgress, saveState,
-    working, workingStep, serverReading, stepProgress, conflictFor, stepConflictFor, isAnswered,
+    working, workingStep, serverReading, stepProgress, liveCount, conflictFor, stepConflictFor, isAnswered,
     open, close, refresh, setReading, setStep, keepTheirs, useMine, addPhoto, removePhoto, uploadFile, createFinding, updateFinding,
   }
 })

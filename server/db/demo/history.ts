@@ -34,8 +34,12 @@ export interface RunPlan {
   findings?: FindingPlan[]
   /** Step notes. */
   notes?: Record<string, string>
-  /** A re-test of this earlier run (same equipment, same checklist): what was checked then and is unchanged is marked not applicable. */
+  /** A re-test of this earlier run (same equipment, same checklist): what was checked then and is unchanged is carried over from its report. */
   retestOf?: string
+  /** Steps deferred to a later date (seasonal load, a part on order): the reason and how many days after the run it is due. */
+  defer?: Record<string, { reason: string; dueInDays: number }>
+  /** Steps not done because they could not be done safely that day: the reason. */
+  notDone?: Record<string, string>
 }
 
 const RAFE = 'rafe.okafor@tallowmere.test'
@@ -53,7 +57,10 @@ export const DEMO_HISTORY: RunPlan[] = [
     set: { sealLeakage: { value: 'drops' } },
     findings: [{ stepId: 'mechanical', fieldId: 'sealLeakage', severity: 'minor', description: 'Mechanical seal weeping a drop every few seconds at start-up. Owner’s staff to look again after 48 h of running; replace the seal under warranty if it has not bedded in.' }],
   },
-  { id: 'lcc-ch1', project: 'LCC-CP', tag: 'CH-1', technician: BASTIAN, daysAgo: 1077, acceptAfterDays: 2, chiller: { startSequence: true } },
+  {
+    id: 'lcc-ch1', project: 'LCC-CP', tag: 'CH-1', technician: BASTIAN, daysAgo: 1077, acceptAfterDays: 2, chiller: { startSequence: true },
+    defer: { 'trip-high-condenser': { reason: 'Winter tower water: the condenser pressure cannot be raised to the cutout without bypassing the tower controls. To be tested at the first warm-weather load.', dueInDays: 150 } },
+  },
   { id: 'lcc-cwp2', project: 'LCC-CP', tag: 'CWP-2', technician: BASTIAN, daysAgo: 1073, acceptAfterDays: 1 },
   {
     id: 'lcc-cwp1', project: 'LCC-CP', tag: 'CWP-1', technician: BASTIAN, daysAgo: 1073, acceptAfterDays: 1,
@@ -91,7 +98,10 @@ export const DEMO_HISTORY: RunPlan[] = [
     findings: [{ stepId: 'hydraulic', fieldId: 'pumpFlow', severity: 'minor', description: 'Flow 7.5 % below design with a clean-looking strainer; the tower basin screens were half blocked with construction debris. Site to clear the screens; flow to be checked again by the balancing contractor.' }],
   },
   { id: 'ard-che1', project: 'ARD-EP', tag: 'CH-E1', technician: INES, daysAgo: 950, acceptAfterDays: 2, chiller: { startSequence: true } },
-  { id: 'ard-che2', project: 'ARD-EP', tag: 'CH-E2', technician: BASTIAN, daysAgo: 945, acceptAfterDays: 2, chiller: { startSequence: true, kwFactor: 1.035 } },
+  {
+    id: 'ard-che2', project: 'ARD-EP', tag: 'CH-E2', technician: BASTIAN, daysAgo: 945, acceptAfterDays: 2, chiller: { startSequence: true, kwFactor: 1.035 },
+    notDone: { 'trip-low-oil': 'The controls technician who can force the low oil pressure test safely was not on site; the cutout setting was checked against the settings sheet only. To be tested at the first service visit.' },
+  },
   {
     id: 'ard-che3', project: 'ARD-EP', tag: 'CH-E3', technician: RAFE, daysAgo: 940, acceptAfterDays: 4,
     chiller: { load: 0.93 },

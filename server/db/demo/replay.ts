@@ -1,3 +1,4 @@
+import type { Disposition } from '@shared/record'
 import { randomUUID } from 'node:crypto'
 import type { DataSource, EntityManager } from 'typeorm'
 import type { ChecklistDefinition } from '@shared/schemas/checklist'
@@ -156,21 +157,29 @@ export async function fillRun(
     await s.runs.setReading(ctx.tech.user, run.id, fieldId, input)
     versions.set(fieldId, (versions.get(fieldId) ?? 0) + 1)
   }
-  const setStep = async (stepId: string, change: { note?: string; notApplicable?: boolean; naReason?: string }) => {
+  const setStep = async (stepId: string, change: { note?: string; disposition?: Disposition }) => {
     const input = await stepChangeSchema.validate({ changeId: randomUUID(), baseVersion: stepVersions.get(stepId) ?? 0, ...change })
     await s.runs.setStep(ctx.tech.user, run.id, stepId, input)
     stepVersions.set(stepId, (stepVersions.get(stepId) ?? 0) + 1)
   }
 
-  const naReason = (stepId: string): string | null => {
+  const blank = { reason: null, by: null, reference: null, witnessed: null, reportNumber: null, dueDate: null }
+  const dateIn = (days: number) => new Date(ctx.dayStart(12).getTime() + days * 86_400_000).toISOString().slice(0, 10)
+  // Why a step has no readings of its own on this run, if it has none: carried over, done by others, deferred, not done.
+  const dispositionFor = (stepId: string): Disposition | null => {
     if (ctx.retest) {
       const keeps = RETEST_KEEPS[ctx.equipment.kind]
       if (keeps.includes(stepId) || ctx.retest.of.troubledSteps.has(stepId) || plan.notes?.[stepId]) return null
-      return `Checked in the start-up accepted on ${ctx.retest.acceptedOn} (report ${ctx.retest.reportNumber}) and unchanged since; this re-test repeats the running checks and what needed attention.`
+      return { ...blank, kind: 'verified_earlier', reportNumber: ctx.retest.reportNumber, reason: `Checked in the start-up accepted on ${ctx.retest.acceptedOn} and unchanged since; this re-test repeats the running checks and what needed attention.` }
     }
     if ((stepId === 'prelube' || stepId === 'soft-start') && !plan.chiller?.startSequence) {
-      return 'First start made by the manufacturer’s start-up engineer before this run; their start-sequence record is filed with the closeout documents.'
+      const n = 100 + (plan.id.length * 37 + stepId.length) % 800
+      return { ...blank, kind: 'by_others', by: 'Field service engineer of the chiller manufacturer', reference: `Manufacturer's start-up record FS-${n}`, witnessed: plan.id.length % 2 === 0, reason: 'First start made before this run; their start-sequence record is filed with the closeout documents.' }
     }
+    const deferred = plan.defer?.[stepId]
+    if (deferred) return { ...blank, kind: 'deferred', reason: deferred.reason, dueDate: dateIn(deferred.dueInDays) }
+    const notDone = plan.notDone?.[stepId]
+    if (notDone) return { ...blank, kind: 'not_done', reason: notDone }
     return null
   }
 
@@ -180,9 +189,9 @@ export async function fillRun(
     if (hour !== undefined) clock.atLeast(ctx.dayStart(hour + r.between(0, 0.2)))
     for (const step of section.steps) {
       clock.advance(r.between(60, 240))
-      const na = naReason(step.id)
-      if (na) {
-        await setStep(step.id, { notApplicable: true, naReason: na })
+      const disposition = dispositionFor(step.id)
+      if (disposition) {
+        await setStep(step.id, { disposition })
         continue
       }
       for (const field of step.fields) {
@@ -224,5 +233,7 @@ export async function fillRun(
 /** The owner's representative reviews the submitted run and signs acceptance; the report is requested on acceptance. */
 export async function acceptRun(s: DemoServices, rep: Actor, runId: string): Promise<void> {
   const review = await s.findings.review(rep.user, runId)
-  await s.signing.sign(rep.user, runId, await signSchema.validate({ meaning: 'accepted_by', password: rep.password, signatureImage: rep.signature, snapshotSha256: review.snapshotSha256 }))
+  // Accepted with exceptions: the representative acknowledges each one, as the acceptance dialog asks.
+  const acknowledgedExceptions = review.exceptions.map((e) => e.id)
+  await s.signing.sign(rep.user, runId, await signSchema.validate({ meaning: 'accepted_by', password: rep.password, signatureImage: rep.signature, snapshotSha256: review.snapshotSha256, acknowledgedExceptions }))
 }
