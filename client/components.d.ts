@@ -63,6 +63,7 @@ declare module 'vue' {
     ProjectFormDialog: typeof import('./components/ProjectFormDialog.vue')['default']
     RouterLink: typeof import('vue-router')['RouterLink']
     RouterView: typeof import('vue-router')['RouterView']
+    RunDisposition: typeof import('./components/RunDisposition.vue')['default']
     RunFieldChoice: typeof import('./components/RunFieldChoice.vue')['default']
     RunFieldComputed: typeof import('./components/RunFieldComputed.vue')['default']
     RunFieldConflict: typeof import('./components/RunFieldConflict.vue')['default']

@@ -107,6 +107,10 @@ export function describeSignRefusal(err: unknown): SignRefusal {
         reload: true,
         problem: { type: 'warning', title: 'What you reviewed is not what the performer signed.', detail: 'The review has been loaded again with the signed record. Check it, then accept again.' },
       }
+    case 'exceptions_not_acknowledged':
+      return { ...none, reload: true, problem: { type: 'warning', title: 'Acknowledge each exception before accepting.', detail: err.message } }
+    case 'critical_findings_open':
+      return { ...none, problem: { type: 'error', title: 'A critical finding is open: acceptance waits until it is resolved.', detail: err.message } }
     case 'changed_since_signed':
       return { ...none, reload: true, problem: { type: 'error', title: 'The run changed after its performer signed it.', detail: err.message } }
     case 'run_changed':

@@ -11,6 +11,9 @@ export class Dispositions1764710000000 implements MigrationInterface {
 
   async up(q: QueryRunner): Promise<void> {
     await q.query(`ALTER TABLE reading ADD COLUMN disposition jsonb`)
+    // A value with no acceptance criterion is recorded, never a pass.
+    await q.query(`ALTER TABLE reading DROP CONSTRAINT reading_verdict_check`)
+    await q.query(`ALTER TABLE reading ADD CONSTRAINT reading_verdict_check CHECK (verdict IN ('pass', 'marginal', 'fail', 'incomplete', 'recorded'))`)
     await q.query(`ALTER TABLE run_step ADD COLUMN disposition jsonb`)
     await q.query(`ALTER TABLE signature ADD COLUMN acknowledged_exceptions jsonb`)
     await q.query(`ALTER TABLE template_version ADD COLUMN starter_revision integer CHECK (starter_revision > 0)`)
@@ -29,5 +32,8 @@ export class Dispositions1764710000000 implements MigrationInterface {
     await q.query(`ALTER TABLE signature DROP COLUMN acknowledged_exceptions`)
     await q.query(`ALTER TABLE run_step DROP COLUMN disposition`)
     await q.query(`ALTER TABLE reading DROP COLUMN disposition`)
+    await q.query(`ALTER TABLE reading DROP CONSTRAINT reading_verdict_check`)
+    await q.query(`UPDATE reading SET verdict = 'pass' WHERE verdict = 'recorded'`)
+    await q.query(`ALTER TABLE reading ADD CONSTRAINT reading_verdict_check CHECK (verdict IN ('pass', 'marginal', 'fail', 'incomplete'))`)
   }
 }
