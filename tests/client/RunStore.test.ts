@@ -1,3 +1,4 @@
+import { emptyProgress } from '@shared/record'
 import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
 import { createPinia, setActivePinia } from 'pinia'
 import { evaluateChecklist } from '@shared/rules'
@@ -26,7 +27,7 @@ const designPoint = {
 
 function reading(fieldId: string, version = 0, entry: RunReading['entry'] = null, by: string | null = null): RunReading {
   const evaluation = evaluateChecklist(chillerStartupDefinition, { readings: { [fieldId]: entry }, designPoint: designPoint as AnyDesignPoint, unitSystem: 'IP' })[fieldId]
-  return { fieldId, entry, notApplicable: false, naReason: null, justification: null, evaluation, version, updatedAt: by ? '2026-12-01T10:32:00.000Z' : null, updatedByName: by }
+  return { fieldId, entry, disposition: null, notApplicable: false, naReason: null, justification: null, evaluation, version, updatedAt: by ? '2026-12-01T10:32:00.000Z' : null, updatedByName: by }
 }
 
 function runDetail(): RunDetail {
@@ -36,7 +37,7 @@ function runDetail(): RunDetail {
     id: 'run-ch1', projectId: 'p', projectCode: 'VXH-CUP', projectName: 'Central utility plant', equipmentId: 'e', equipmentTag: 'CH-1', equipmentKind: 'centrifugal_chiller',
     templateId: 't', templateName: 'Water-cooled centrifugal chiller start-up', templateVersionNumber: 1, state: 'in_progress', version: 1,
     startedAt: '2026-12-01T09:00:00.000Z', startedByName: 'Rafe Okafor', updatedAt: '2026-12-01T09:00:00.000Z',
-    progress: { required: 74, answered: 0, pass: 0, marginal: 0, fail: 0, incomplete: 74, notApplicable: 0 },
+    progress: { ...emptyProgress(), checks: 74, judged: 74, required: 74, incomplete: 74 },
     openFindings: 0, unitSystem: 'IP', definition: chillerStartupDefinition, designPoint, readings, steps: {}, findings: [], attachments: [], signatures: [],
   }
 }

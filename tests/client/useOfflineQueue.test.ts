@@ -19,6 +19,7 @@ const network = () => new RunApiError(0, 'network', 'The server cannot be reache
 const current = (version: number, value: number): RunReading => ({
   fieldId: 'oilPressureRunning',
   entry: { value, unit: 'psid' },
+  disposition: null,
   notApplicable: false,
   naReason: null,
   justification: null,

@@ -1,3 +1,4 @@
+import { emptyProgress } from '@shared/record'
 import { execFileSync, spawnSync } from 'node:child_process'
 import fs from 'node:fs'
 import os from 'node:os'
@@ -194,14 +195,14 @@ describe('any checklist template', () => {
     const evaluations = evaluateChecklist(pumpStartupDefinition, { readings: {}, designPoint: designPoint as unknown as AnyDesignPoint, unitSystem: 'IP' })
     const readings: Record<string, RunReading> = {}
     for (const [fieldId, evaluation] of Object.entries(evaluations)) {
-      readings[fieldId] = { fieldId, entry: null, notApplicable: false, naReason: null, justification: null, evaluation, version: 0, updatedAt: null, updatedByName: null }
+      readings[fieldId] = { fieldId, entry: null, disposition: null, notApplicable: false, naReason: null, justification: null, evaluation, version: 0, updatedAt: null, updatedByName: null }
     }
     const firstStep = pumpStartupDefinition.sections[0].steps[0]
     readings[firstStep.fields[0].id] = { ...readings[firstStep.fields[0].id], notApplicable: true, naReason: 'Pump <em>not</em> fitted yet' }
     const pumpInput: ReportInput = {
       ...base,
       equipment: { ...base.equipment, tag: 'CHWP-1', kind: 'pump', designPoint },
-      run: { ...base.run, definition: pumpStartupDefinition, readings, steps: {}, findings: [], attachments: [], designPoint, progress: { required: 0, answered: 0, pass: 0, marginal: 0, fail: 0, incomplete: Object.keys(readings).length - 1, notApplicable: 1 } },
+      run: { ...base.run, definition: pumpStartupDefinition, readings, steps: {}, findings: [], attachments: [], designPoint, progress: { ...emptyProgress(), incomplete: Object.keys(readings).length - 1, notApplicable: 1 } },
       photoDataUrls: {},
     }
     const out = renderReportHtml(pumpInput)
