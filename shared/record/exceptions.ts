@@ -31,9 +31,9 @@ export interface RecordException {
 }
 
 export const SEVERITY_WORDS: Record<FindingSeverity, { label: string; meaning: string }> = {
-  minor: { label: 'Minor', meaning: 'Minor — to be put right; does not hold up acceptance' },
-  major: { label: 'Major', meaning: 'Major — fix before acceptance, or the owner’s representative accepts it as an acknowledged exception' },
-  critical: { label: 'Critical', meaning: 'Critical — blocks acceptance until it is resolved' },
+  minor: { label: 'Minor', meaning: 'Minor — note it and fix it at a convenient time; acceptance lists it as an exception while open' },
+  major: { label: 'Major', meaning: 'Major — fix before acceptance, or the owner’s representative accepts it open as an acknowledged exception' },
+  critical: { label: 'Critical', meaning: 'Critical — the machine must not run, and acceptance waits, until it is resolved' },
 }
 
 const RANK: Record<FindingSeverity, number> = { minor: 1, major: 2, critical: 3 }

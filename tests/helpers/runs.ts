@@ -32,11 +32,18 @@ export async function readyRun(ctx: TestContext) {
   return { org, admin, tech, rep, otherRep, project, equipment, template, run, techAgent, repAgent, adminAgent }
 }
 
-/** Marks every step but the running oil checks not applicable (with a reason) and fills those two, so the run can be signed. */
-export async function makeSignable(techAgent: request.Agent, run: { id: string; definition: { sections: { steps: { id: string }[] }[] } }) {
+/**
+ * Answers the pre-work safety items Yes (they cannot be set aside), marks every other step but the running oil checks
+ * not applicable (with a reason) and fills those two, so the run can be signed.
+ */
+export async function makeSignable(techAgent: request.Agent, run: { id: string; definition: { sections: { steps: { id: string; safety?: boolean; fields: { id: string }[] }[] }[] } }) {
   for (const section of run.definition.sections) {
     for (const step of section.steps) {
       if (step.id === 'oil-running') continue
+      if (step.safety) {
+        for (const f of step.fields) await techAgent.put(`/api/runs/${run.id}/readings/${f.id}`).send({ changeId: randomUUID(), baseVersion: 0, entry: { value: true } }).expect(200)
+        continue
+      }
       await techAgent.put(`/api/runs/${run.id}/steps/${step.id}`).send({ changeId: randomUUID(), baseVersion: 0, notApplicable: true, naReason: 'Covered by the factory test record' }).expect(200)
     }
   }

@@ -7,8 +7,12 @@ import request from 'supertest'
 import { ReportQueue } from '../../server/jobs/report-queue'
 import type { ReportRenderer, ReportService } from '../../server/services/report.service'
 import { DEMO_HISTORY, DEMO_PEOPLE, isEmpty, loadDemoData } from '../../server/db/demo-data'
-import { localTime } from '@shared/record'
-import { keep, liveSnapshot } from '../../server/services/run-record'
+import { countRunRecord, exceptionsOf, localTime } from '@shared/record'
+import type { RunReview } from '@shared/types/run'
+import { Report } from '../../server/entities'
+import { buildReportView } from '../../server/reports/view-model'
+import { renderReportHtml } from '../../server/reports/render'
+import { keep, keptSnapshot, liveSnapshot } from '../../server/services/run-record'
 import { asOwner, createTestContext, resetDatabase, type TestContext } from '../helpers/context'
 
 let ctx: TestContext
@@ -239,4 +243,87 @@ describe('loading as one step', () => {
     const [{ n }] = await ctx.db.query(`SELECT (SELECT count(*) FROM run) + (SELECT count(*) FROM audit_event) + (SELECT count(*) FROM project) + (SELECT count(*) FROM outbound_mail) AS n`)
     expect(Number(n)).toBe(0)
   }, 600_000)
+})
+
+describe('one count everywhere (shared/record/counting.ts)', () => {
+  it('when every demo run is counted, then the shared rule, the review, the archive row, the report view and the rendered report agree', async () => {
+    const owner = DEMO_PEOPLE.find((p) => p.role === 'admin')!
+    const agent = request.agent(ctx.app)
+    await agent.post('/api/session').send({ email: owner.email, password: owner.password }).expect(200)
+    const rows = await q<{ id: string; run_id: string; fail_count: number; marginal_count: number; snapshot_sha256: string }>(`SELECT id, run_id, fail_count, marginal_count, snapshot_sha256 FROM report`)
+    expect(rows.length).toBe(DEMO_HISTORY.length)
+    const seen = { exceptions: 0, byOthers: 0, carriedOver: 0, deferred: 0, notDone: 0, recorded: 0 }
+    for (const row of rows) {
+      const { snapshot } = await keptSnapshot(ctx.db.manager, row.run_id, row.snapshot_sha256)
+      const count = countRunRecord(snapshot)
+      const t = count.totals
+      // The review the signers saw.
+      const review = (await agent.get(`/api/runs/${row.run_id}/review`).expect(200)).body.review as RunReview
+      expect(review.counts).toEqual(t)
+      // The archive row, copied at issue.
+      expect([row.fail_count, row.marginal_count]).toEqual([t.fail, t.marginal])
+      // The report: cover, summary table, every detail table and the design table, from the same input the PDF is drawn from.
+      const report = await ctx.db.getRepository(Report).findOneByOrFail({ id: row.id })
+      const input = await services().reports.buildInput(report)
+      const view = buildReportView(input)
+      expect(view.totalChecks).toBe(t.checks)
+      expect(Object.fromEntries(view.counts.map((c) => [c.word, c.count]))).toMatchObject({ Pass: t.pass, Marginal: t.marginal, Fail: t.fail, Incomplete: t.incomplete, Recorded: t.recorded })
+      const rowsOf = [...view.sections.flatMap((s) => s.steps.flatMap((st) => st.fields)), ...view.handoverTasks]
+      const tally = (key: string) => rowsOf.filter((r) => r.verdict?.key === key).length
+      expect({ pass: tally('pass'), marginal: tally('marginal'), fail: tally('fail'), incomplete: tally('incomplete'), recorded: tally('recorded') }).toEqual({ pass: t.pass, marginal: t.marginal, fail: t.fail, incomplete: t.incomplete, recorded: t.recorded })
+      expect(rowsOf.filter((r) => r.notApplicable).length).toBe(t.notApplicable + t.byOthers + t.verifiedEarlier + t.deferred + t.notDone)
+      expect(view.problems.length).toBe(t.fail + t.marginal)
+      expect(view.missing.length).toBe(t.incomplete)
+      // A design-table row of a set-aside reading never says "Incomplete"; its verdict is the checklist row's.
+      for (const d of view.designRows) {
+        const rowOf = rowsOf.find((r) => r.label === d.measuredLabel)
+        if (rowOf) expect(d.verdict?.key ?? null).toBe(rowOf.verdict?.key ?? null)
+      }
+      const html = renderReportHtml(input)
+      expect(html).toContain(view.totalsLine)
+      // Every marginal or fail is followed up: a finding, a justification, or an acknowledged exception.
+      expect(html).not.toMatch(/<td>\s*—\s*<\/td>\s*<\/tr>/)
+      const exceptions = exceptionsOf(snapshot, count)
+      if (exceptions.length) expect(html).toContain(`Accepted with ${exceptions.length} exception${exceptions.length === 1 ? '' : 's'}`)
+      seen.exceptions += exceptions.length ? 1 : 0
+      seen.byOthers += t.byOthers
+      seen.carriedOver += t.verifiedEarlier
+      seen.deferred += t.deferred
+      seen.notDone += t.notDone
+      seen.recorded += t.recorded
+    }
+    // The demo's history uses the dispositions it describes and has reports accepted with exceptions.
+    expect(seen.exceptions).toBeGreaterThanOrEqual(3)
+    expect(seen.byOthers).toBeGreaterThan(0)
+    expect(seen.carriedOver).toBeGreaterThan(0)
+    expect(seen.deferred).toBeGreaterThan(0)
+    expect(seen.notDone).toBeGreaterThan(0)
+    expect(seen.recorded).toBeGreaterThan(0)
+  }, 300_000)
+
+  it('when three reports are printed (one with exceptions, a re-test, an SI report), then the PDF text carries the same counts', async () => {
+    const picks = await q<{ id: string; run_id: string; snapshot_sha256: string }>(
+      `(SELECT r.id, r.run_id, r.snapshot_sha256 FROM report r JOIN signature s ON s.run_id = r.run_id AND s.meaning = 'accepted_by' AND NOT s.voided
+         WHERE jsonb_array_length(coalesce(s.acknowledged_exceptions, '[]'::jsonb)) > 0 ORDER BY r.report_number LIMIT 1)
+       UNION ALL
+       (SELECT r.id, r.run_id, r.snapshot_sha256 FROM report r JOIN run_step st ON st.run_id = r.run_id AND st.disposition ->> 'kind' = 'verified_earlier' ORDER BY r.report_number LIMIT 1)
+       UNION ALL
+       (SELECT r.id, r.run_id, r.snapshot_sha256 FROM report r JOIN project p ON p.id = r.project_id AND p.unit_system = 'SI' ORDER BY r.report_number LIMIT 1)`,
+    )
+    expect(picks.length).toBe(3)
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-counted-'))
+    for (const pick of picks) {
+      const ready = await services().reports.process(pick.id)
+      expect(ready.status).toBe('ready')
+      const file = path.join(dir, `${pick.id}.pdf`)
+      fs.writeFileSync(file, await services().reports.pdf(ready))
+      const text = execFileSync('pdftotext', [file, '-'], { encoding: 'utf8' }).replace(/\s+/g, ' ')
+      const { snapshot } = await keptSnapshot(ctx.db.manager, pick.run_id, pick.snapshot_sha256)
+      const t = countRunRecord(snapshot).totals
+      expect(text).toContain(`Of ${t.checks} checks: ${t.pass} pass, ${t.marginal} marginal, ${t.fail} fail, ${t.incomplete} incomplete, ${t.recorded} recorded`)
+      const ex = exceptionsOf(snapshot)
+      if (ex.length) expect(text).toContain(`Accepted with ${ex.length} exception`)
+    }
+    fs.rmSync(dir, { recursive: true, force: true })
+  }, 300_000)
 })
