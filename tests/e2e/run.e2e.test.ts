@@ -1,3 +1,4 @@
+import { fieldPlaces, hasCriterion } from '@shared/record'
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
@@ -217,8 +218,11 @@ describe('a technician runs the chiller start-up', { timeout: 180_000 }, () => {
 
     expect(run.readings.oilPressureRunning.evaluation.verdict).toBe('fail')
     expect(run.readings.oilTempRunning.evaluation.verdict).toBe('marginal')
-    const others = Object.values(run.readings).filter((r) => r.fieldId !== 'oilPressureRunning' && r.fieldId !== 'oilTempRunning' && r.evaluation.verdict !== 'pass')
+    // Every other judged field passes; values with no acceptance criterion are recorded, never passed.
+    const judged = (id: string) => hasCriterion(fieldPlaces(run.definition).get(id)!.field)
+    const others = Object.values(run.readings).filter((r) => r.fieldId !== 'oilPressureRunning' && r.fieldId !== 'oilTempRunning' && r.evaluation.verdict !== (judged(r.fieldId) ? 'pass' : 'recorded'))
     expect(others.map((r) => `${r.fieldId}: ${r.evaluation.verdict}`)).toEqual([])
+    expect(review.counts.recorded).toBe(Object.values(run.readings).filter((r) => r.evaluation.verdict === 'recorded').length)
     expect(run.findings).toHaveLength(1)
     expect(run.findings[0].fieldId).toBe('oilPressureRunning')
 

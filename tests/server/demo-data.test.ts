@@ -317,6 +317,8 @@ describe('one count everywhere (shared/record/counting.ts)', () => {
       expect(ready.status).toBe('ready')
       const file = path.join(dir, `${pick.id}.pdf`)
       fs.writeFileSync(file, await services().reports.pdf(ready))
+      // To look at the pages: KEEP_REPORT_PDFS=/some/folder npm test, then pdftoppm each PDF there.
+      if (process.env.KEEP_REPORT_PDFS) fs.copyFileSync(file, path.join(process.env.KEEP_REPORT_PDFS, `${ready.reportNumber}.pdf`))
       const text = execFileSync('pdftotext', [file, '-'], { encoding: 'utf8' }).replace(/\s+/g, ' ')
       const { snapshot } = await keptSnapshot(ctx.db.manager, pick.run_id, pick.snapshot_sha256)
       const t = countRunRecord(snapshot).totals
