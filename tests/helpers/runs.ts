@@ -54,8 +54,12 @@ export async function makeSignable(techAgent: request.Agent, run: { id: string; 
 export const snapshotOf = async (agent: request.Agent, runId: string) => (await agent.get(`/api/runs/${runId}/review`)).body.review.snapshotSha256 as string
 
 /** Signs a run with the test password, the test drawing and the snapshot the review shows now. */
-export const sign = async (agent: request.Agent, runId: string, meaning: string, extra: Record<string, unknown> = {}) =>
-  agent.post(`/api/runs/${runId}/sign`).send({ meaning, password: TEST_PASSWORD, signatureImage: SIGNATURE, snapshotSha256: await snapshotOf(agent, runId), ...extra })
+export const sign = async (agent: request.Agent, runId: string, meaning: string, extra: Record<string, unknown> = {}) => {
+  const review = (await agent.get(`/api/runs/${runId}/review`)).body.review as { snapshotSha256: string; exceptions?: { id: string }[] } | undefined
+  // An acceptance acknowledges every exception the review lists, as the dialog asks; a test may send its own list.
+  const acknowledged = meaning === 'accepted_by' ? { acknowledgedExceptions: (review?.exceptions ?? []).map((e) => e.id) } : {}
+  return agent.post(`/api/runs/${runId}/sign`).send({ meaning, password: TEST_PASSWORD, signatureImage: SIGNATURE, snapshotSha256: review?.snapshotSha256, ...acknowledged, ...extra })
+}
 
 /** Performer and acceptance signatures, then the report job run here and now; returns the report number. */
 export async function issueReport(

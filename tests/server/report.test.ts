@@ -197,7 +197,8 @@ describe('any checklist template', () => {
     for (const [fieldId, evaluation] of Object.entries(evaluations)) {
       readings[fieldId] = { fieldId, entry: null, disposition: null, notApplicable: false, naReason: null, justification: null, evaluation, version: 0, updatedAt: null, updatedByName: null }
     }
-    const firstStep = pumpStartupDefinition.sections[0].steps[0]
+    // A record from before dispositions: the not-applicable flag alone, on a step that is not the safety step.
+    const firstStep = pumpStartupDefinition.sections[0].steps[1]
     readings[firstStep.fields[0].id] = { ...readings[firstStep.fields[0].id], notApplicable: true, naReason: 'Pump <em>not</em> fitted yet' }
     const pumpInput: ReportInput = {
       ...base,
@@ -208,7 +209,7 @@ describe('any checklist template', () => {
     const out = renderReportHtml(pumpInput)
     for (const section of pumpStartupDefinition.sections) expect(out).toContain(section.title)
     expect(out).toContain('Direction of rotation')
-    expect(out).toContain('Not applicable because</span> Pump &lt;em&gt;not&lt;/em&gt; fitted yet')
+    expect(out).toContain('Not applicable: Pump &lt;em&gt;not&lt;/em&gt; fitted yet')
     expect(out).toContain('Required checks without a value')
     expect(out).not.toContain('Start-sequence timings')
     expect(out).not.toContain('Water side')

@@ -59,7 +59,7 @@ describe('the signed snapshot is the record', () => {
     expect(row.sha256).toBe(review.snapshotSha256)
     expect(sha256(row.content)).toBe(signed.body.signature.snapshotSha256)
     const content = JSON.parse(row.content)
-    expect(content).toMatchObject({ format: 'startproof.run-snapshot', version: 1, equipment: { tag: 'CH-7', serialNumber: 'TW-7' }, project: { code: s.project.code, timeZone: s.project.timeZone } })
+    expect(content).toMatchObject({ format: 'startproof.run-snapshot', version: 2, equipment: { tag: 'CH-7', serialNumber: 'TW-7' }, project: { code: s.project.code, timeZone: s.project.timeZone } })
     expect(content.equipment.designPoint.evaporatorWaterFlow).toBeDefined()
     expect(content.readings.oilPressureRunning.evaluation.verdict).toBe('pass')
     // The review of a submitted run is the kept snapshot, so the owner's representative signs exactly that.
