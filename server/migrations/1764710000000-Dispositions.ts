@@ -15,6 +15,12 @@ export class Dispositions1764710000000 implements MigrationInterface {
     await q.query(`ALTER TABLE reading DROP CONSTRAINT reading_verdict_check`)
     await q.query(`ALTER TABLE reading ADD CONSTRAINT reading_verdict_check CHECK (verdict IN ('pass', 'marginal', 'fail', 'incomplete', 'recorded'))`)
     await q.query(`ALTER TABLE run_step ADD COLUMN disposition jsonb`)
+    // A disposition says what makes it a record (shared/record/disposition.ts); the old flag still needs its reason.
+    for (const table of ['reading', 'run_step']) {
+      await q.query(`ALTER TABLE ${table} DROP CONSTRAINT ${table}_na_has_reason`)
+      await q.query(`ALTER TABLE ${table} ADD CONSTRAINT ${table}_na_has_reason CHECK (NOT not_applicable OR disposition IS NOT NULL OR coalesce(btrim(na_reason), '') <> '')`)
+      await q.query(`ALTER TABLE ${table} ADD CONSTRAINT ${table}_disposition_sets_na CHECK (disposition IS NULL OR not_applicable)`)
+    }
     await q.query(`ALTER TABLE signature ADD COLUMN acknowledged_exceptions jsonb`)
     await q.query(`ALTER TABLE template_version ADD COLUMN starter_revision integer CHECK (starter_revision > 0)`)
     // Versions installed from the starter library so far were its first revision.
@@ -30,6 +36,12 @@ export class Dispositions1764710000000 implements MigrationInterface {
   async down(q: QueryRunner): Promise<void> {
     await q.query(`ALTER TABLE template_version DROP COLUMN starter_revision`)
     await q.query(`ALTER TABLE signature DROP COLUMN acknowledged_exceptions`)
+    for (const table of ['reading', 'run_step']) {
+      await q.query(`ALTER TABLE ${table} DROP CONSTRAINT ${table}_disposition_sets_na`)
+      await q.query(`ALTER TABLE ${table} DROP CONSTRAINT ${table}_na_has_reason`)
+      await q.query(`UPDATE ${table} SET na_reason = coalesce(na_reason, disposition ->> 'kind') WHERE not_applicable`)
+      await q.query(`ALTER TABLE ${table} ADD CONSTRAINT ${table}_na_has_reason CHECK (NOT not_applicable OR coalesce(btrim(na_reason), '') <> '')`)
+    }
     await q.query(`ALTER TABLE run_step DROP COLUMN disposition`)
     await q.query(`ALTER TABLE reading DROP COLUMN disposition`)
     await q.query(`ALTER TABLE reading DROP CONSTRAINT reading_verdict_check`)

@@ -2,7 +2,7 @@ import { isDeepStrictEqual } from 'node:util'
 import { DataSource, In, type EntityManager } from 'typeorm'
 import * as yup from 'yup'
 import type { ChecklistDefinition } from '@shared/schemas/checklist'
-import { dispositionOf, fieldPlaces, runDetailFromSnapshot, safetyStop, signatureRecord } from '@shared/record'
+import { describeDisposition, dispositionOf, fieldPlaces, runDetailFromSnapshot, safetyStop, signatureRecord } from '@shared/record'
 import { entrySchemaFor, type FieldEntry } from '@shared/schemas/reading'
 import { physicalBoundsProblem } from '@shared/rules'
 import { requestedDisposition, type ReadingChangeInput, type StepChangeInput } from '@shared/schemas/run'
@@ -307,7 +307,7 @@ export class RunService {
         entry: disposition ? null : (entry as Record<string, unknown> | null),
         disposition,
         notApplicable: disposition !== null,
-        naReason: disposition?.reason ?? null,
+        naReason: disposition ? (disposition.reason ?? describeDisposition(disposition)) : null,
         justification: input.justification ?? null,
       }
       const unchanged = isDeepStrictEqual(
@@ -386,7 +386,7 @@ export class RunService {
       if (disposition && stepDef?.safety) {
         throw new AppError('safety_item', `${stepDef.title} is the pre-work safety step: answer its items; it cannot be set aside`, 400, { disposition: 'The pre-work safety step cannot be set aside' })
       }
-      const next = { note: input.note ?? '', disposition, notApplicable: disposition !== null, naReason: disposition?.reason ?? null }
+      const next = { note: input.note ?? '', disposition, notApplicable: disposition !== null, naReason: disposition ? (disposition.reason ?? describeDisposition(disposition)) : null }
       const unchanged = isDeepStrictEqual({ note: step.note, disposition: dispositionOf(step), notApplicable: step.notApplicable, naReason: step.naReason }, next)
       if (step.version !== input.baseVersion && !unchanged) {
         const view = await this.stepView(step)
