@@ -164,10 +164,15 @@ describe('handover package', () => {
     expect(readings.find((r) => r.field_id === 'oilPressureRunning')).toMatchObject({ value: '36', unit: 'psid', verdict: 'pass', not_applicable: 'false' })
     expect(Number(readings.find((r) => r.field_id === 'oilPressureRunning')!.value_si)).toBeCloseTo(36 * 6894.757, 0)
     expect(readings.find((r) => r.field_id === 'oilTempRunning')).toMatchObject({ value: '125', unit: '°F', unit_si: 'K', quantity: 'temperature' })
-    // Fields of a step marked not applicable are not applicable, with the step's reason, as the report counts them.
-    const skipped = readings.filter((r) => r.step_id !== 'oil-running')
+    // The pre-work safety items are answered; fields of a step set aside carry the step's disposition, as the report counts
+    // them: a required one is a not-applicable check, an optional one is not a check at all.
+    expect(readings.find((r) => r.field_id === 'safetyBriefing')).toMatchObject({ verdict: 'pass', not_applicable: 'false', answer: 'yes' })
+    const skipped = readings.filter((r) => r.step_id !== 'oil-running' && r.step_id !== 'prestart-safety')
     expect(skipped.length).toBeGreaterThan(20)
-    for (const r of skipped) expect(r, r.field_id).toMatchObject({ not_applicable: 'true', verdict: 'not_applicable', na_reason: 'Covered by the factory test record' })
+    for (const r of skipped) {
+      expect(r, r.field_id).toMatchObject({ not_applicable: 'true', disposition: 'not_applicable', na_reason: 'Not applicable: Covered by the factory test record' })
+      expect(r.verdict, r.field_id).toBe(r.required === 'true' ? 'not_applicable' : 'not_a_check')
+    }
     const findings = rows(`runs/${s.first}/findings.csv`)
     expect(findings).toEqual([expect.objectContaining({ severity: 'minor', status: 'open', description: 'Oil sight glass label faded' })])
     const signatures = rows(`runs/${s.first}/signatures.csv`)
