@@ -279,6 +279,18 @@ function joinLabels(labels: string[]): string {
   return labels.length <= 1 ? labels.join('') : `${labels.slice(0, -1).join(', ')} and ${labels[labels.length - 1]}`
 }
 
+/**
+ * The unit a field is judged and worded in: its own unit (hours stay hours, feet of water stay feet of water) in a
+ * project written in the template's unit system, and for times in any project; the project's display unit otherwise
+ * (docs/REFERENCES.md §Units, conversions and printed digits).
+ */
+export function judgedUnit(field: ChecklistField, context: Pick<EvaluationContext, 'unitSystem' | 'definition'>): string {
+  const { kind, unit } = quantityOf(field)
+  if (kind === 'time') return unit
+  const templateSystem = context.definition?.unitSystem ?? 'IP'
+  return context.unitSystem === templateSystem ? unit : displayUnit(kind, context.unitSystem)
+}
+
 function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefined, context: EvaluationContext): FieldEvaluation {
   const { kind, unit } = quantityOf(field)
   const computed = Boolean(field.computed)
@@ -293,7 +305,7 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
     const e = numberEntry(field, entry as FieldEntry)
     valueInFieldUnit = convert(e.value, e.unit, unit, kind)
   }
-  const shown = displayUnit(kind, context.unitSystem)
+  const shown = judgedUnit(field, context)
   const canonicalValue = toCanonical(valueInFieldUnit, unit, kind)
   const displayValue = convert(valueInFieldUnit, unit, shown, kind)
   const base: FieldEvaluation = {

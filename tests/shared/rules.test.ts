@@ -275,3 +275,20 @@ describe('verdict summary and expressions', () => {
     expect(all.capacity.verdict).toBe('incomplete')
   })
 })
+
+describe('a value is judged and worded in the field’s own unit (docs/REFERENCES.md §Units, conversions and printed digits)', () => {
+  const hours = { id: 'oilHeaterHours', label: 'Oil heater on', kind: 'number', quantity: 'time', unit: 'h', required: true, rule: { type: 'range', min: 12, warnMin: 24 } } as const
+  const drop = { id: 'chwPressureDrop', label: 'Evaporator water pressure drop', kind: 'number', quantity: 'pressure_differential', unit: 'ftH2O', required: true, rule: { type: 'range', max: 25 } } as const
+  it('when an hours field is judged, then it says hours in an I-P and in an SI project', () => {
+    for (const unitSystem of ['IP', 'SI'] as const) {
+      const r = evaluateField(hours, { value: 18, unit: 'h' }, { unitSystem })
+      expect(r.verdict).toBe('marginal')
+      expect(r.message).toBe('Oil heater on 18 h is within limits but below the warning level 24 h (minimum 12 h)')
+    }
+  })
+  it('when a pressure drop is typed in feet of water in an I-P project, then it is judged and worded in feet of water', () => {
+    const r = evaluateField(drop, { value: 22.4, unit: 'ftH2O' }, { unitSystem: 'IP' })
+    expect(r.display?.unit).toBe('ftH2O')
+    expect(r.message).toMatch(/^Evaporator water pressure drop 22\.4 ft/)
+  })
+})
