@@ -1,12 +1,19 @@
 import { requireFinite } from '../engineering/errors'
 import { unitSpec, type QuantityKind } from './quantities'
 
-/** `value` rounded to `decimals` places, trailing zeros dropped ("18", "0.576", "-3.5"). */
+/** The minus sign as the trade prints it (U+2212), never a hyphen. */
+export const MINUS = '\u2212'
+
+/**
+ * `value` rounded to `decimals` places, trailing zeros dropped, with a true minus sign ("18", "0.576", "−3.5"); a value
+ * that rounds to zero is "0", never "−0" (docs/REFERENCES.md §Units, conversions and printed digits).
+ */
 export function formatNumber(value: number, decimals: number): string {
   requireFinite(value, 'value')
   const text = value.toFixed(Math.max(0, Math.min(decimals, 10)))
   const trimmed = text.includes('.') ? text.replace(/0+$/, '').replace(/\.$/, '') : text
-  return trimmed === '-0' ? '0' : trimmed
+  if (/^-0(\.0*)?$/.test(trimmed) || trimmed === '-0') return '0'
+  return trimmed.startsWith('-') ? `${MINUS}${trimmed.slice(1)}` : trimmed
 }
 
 /** "18 psid", "44.5 °F", "501.5 tons": the value in `unit` rounded to that unit's usual precision. */
