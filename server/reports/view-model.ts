@@ -6,7 +6,7 @@ import { DESIGN_POINT_QUANTITIES, EQUIPMENT_KIND_LABELS, isDesignPointKey, isEqu
 import type { SeriesEntry } from '@shared/schemas/reading'
 import type { ReportInput, SignatureRecord } from '@shared/types/report'
 import type { FindingSummary, RunReading } from '@shared/types/run'
-import { convert, convertDifference, displayUnit, formatNumber, formatQuantity, fromCanonical, unitLabel, unitSpec, type QuantityKind, type UnitSystem } from '@shared/units'
+import { convert, convertDifference, displayUnit, distinguishingDecimals, formatNumber, formatQuantity, fromCanonical, unitLabel, unitSpec, type QuantityKind, type UnitSystem } from '@shared/units'
 // The design-point rows the equipment pages show, in the project's units (pure functions; no Vue inside).
 import { designPointRows, designPointUnit } from '@shared/format/design-point'
 
@@ -340,7 +340,11 @@ function valueText(field: ChecklistField, reading: RunReading | undefined, syste
   if (evaluation.display) {
     const kind = field.quantity as QuantityKind
     const unit = shownUnit(field, evaluation, system) ?? evaluation.display.unit
-    return unit === evaluation.display.unit ? evaluation.display.text : formatQuantity(convert(evaluation.display.value, evaluation.display.unit, unit, kind), unit, kind)
+    const value = convert(evaluation.display.value, evaluation.display.unit, unit, kind)
+    // Enough digits to justify the verdict at a boundary: 1.002 % against a 1 % warning level never prints as "1 %".
+    const limits = evaluation.limits ? Object.entries(evaluation.limits.display).filter(([k, v]) => k !== 'unit' && typeof v === 'number').map(([, v]) => convert(v as number, evaluation.limits!.display.unit, unit, kind)) : []
+    const extra = limits.length ? distinguishingDecimals(value, limits, unitSpec(kind, unit).decimals) : 0
+    return formatQuantity(value, unit, kind, extra)
   }
   const answer = evaluation.answer
   if (typeof answer === 'boolean') return answer ? 'Yes' : 'No'

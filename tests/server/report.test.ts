@@ -23,6 +23,7 @@ import {
   type OrganisationSigner,
 } from '../../server/reports'
 import { sampleReportInput } from '../fixtures/sample-report'
+import { buildReportView } from '../../server/reports/view-model'
 
 // One browser pool for the whole file; the fixture is the sample chiller run (one fail, one marginal, two findings,
 // a voided signature and two valid ones) with hostile text put into a note, a finding and a signer's role.
@@ -355,4 +356,32 @@ describe('browser pool', () => {
     expect(pids.filter(alive)).toEqual([])
     await expect(closing.run(async () => undefined)).rejects.toBeInstanceOf(BrowserPoolClosedError)
   }, 30_000)
+})
+
+describe('the report prints what the one counting rule counts (shared/record/counting.ts)', () => {
+  it('when a value sits just past a boundary, then it prints with the digits that justify its verdict', () => {
+    const input = sampleReportInput()
+    const r = input.run.readings.voltageUnbalance
+    input.run.readings.voltageUnbalance = {
+      ...r,
+      evaluation: { ...r.evaluation, verdict: 'marginal', display: { value: 1.002, unit: '%', text: '1 %' }, limits: { display: { max: 2, warnMax: 1, unit: '%' }, canonical: { max: 2, warnMax: 1, unit: '%' } } },
+    }
+    const view = buildReportView(input)
+    const row = view.electrical.find((x) => x.id === 'voltageUnbalance')!
+    expect(row.value).toBe('1.002 %')
+    expect(row.verdict?.key).toBe('marginal')
+  })
+
+  it('when fields have no acceptance criterion, then they print as Recorded and the cover counts them apart from passes', () => {
+    const view = buildReportView(sampleReportInput())
+    const rows = view.sections.flatMap((s) => s.steps.flatMap((st) => st.fields))
+    const recorded = rows.filter((x) => x.verdict?.key === 'recorded')
+    expect(recorded.map((x) => x.id)).toEqual(expect.arrayContaining(['inputKw', 'trainingGivenBy']))
+    expect(recorded.every((x) => x.verdict?.word === 'Recorded' && x.verdict.judged === false)).toBe(true)
+    expect(view.counts.find((c) => c.word === 'Recorded')?.count).toBe(recorded.length + view.handoverTasks.filter((x) => x.verdict?.key === 'recorded').length)
+    expect(view.totalsLine).toMatch(/^Of \d+ checks: \d+ pass, \d+ marginal, \d+ fail, \d+ incomplete, \d+ recorded/)
+    const html = renderReportHtml(sampleReportInput())
+    expect(html).toContain(view.totalsLine)
+    expect(html).toContain('I performed this start-up and the readings are true.')
+  })
 })
