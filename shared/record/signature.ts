@@ -84,6 +84,6 @@ export function performerStatement(byOthers: ReadonlyArray<{ by: string; referen
 
 /** What the acceptor's signature states, with the exceptions acknowledged. */
 export function acceptorStatement(exceptions: number): string {
-  if (!exceptions) return 'I accept this start-up on behalf of the owner.'
-  return `I accept this start-up on behalf of the owner with the ${exceptions} exception${exceptions === 1 ? '' : 's'} listed, each acknowledged.`
+  if (!exceptions) return 'I witnessed and accept this start-up on behalf of the owner.'
+  return `I witnessed and accept this start-up on behalf of the owner, with the ${exceptions} exception${exceptions === 1 ? '' : 's'} listed, each acknowledged.`
 }
