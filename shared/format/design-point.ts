@@ -17,6 +17,8 @@ const PREFERRED_UNITS: Partial<Record<DesignPointKey, Record<UnitSystem, string>
   pumpDesignHead: { IP: 'ftH2O', SI: 'kPad' },
   evaporatorPressureDrop: { IP: 'ftH2O', SI: 'kPad' },
   condenserPressureDrop: { IP: 'ftH2O', SI: 'kPad' },
+  // Motor nameplates in I-P are rated in horsepower (NEMA MG 1); 1 hp = 745.7 W (NIST SP 811).
+  motorRatedPower: { IP: 'hp', SI: 'kW' },
 }
 
 /** The unit a design-point value is shown and entered in for a unit system. */
