@@ -167,7 +167,7 @@ describe('readings', () => {
     expect(unknown.body.error.fields).toEqual({ noSuchField: 'Not a field of this run’s checklist version' })
     expect(wrongUnit.status).toBe(400)
     expect(wrongUnit.body.error.fields.voltsAB).toMatch(/unit must be one of V, kV/)
-    expect(negativeFlow.body.error.fields).toEqual({ chwFlow: 'Chilled-water flow -5 gpm cannot be negative' })
+    expect(negativeFlow.body.error.fields).toEqual({ chwFlow: 'Chilled-water flow −5 gpm cannot be negative' })
     expect(hot.body.error.fields.chwLeaving).toMatch(/outside −40 °C to 150 °C/)
     expect(computed.body.error.fields).toEqual({ voltageUnbalance: 'Computed from other readings' })
     expect(naNoReason.status).toBe(400)
