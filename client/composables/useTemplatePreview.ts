@@ -1,6 +1,6 @@
-import { evaluateField, type FieldEvaluation } from '@shared/rules'
+import { evaluateField, resolveRampRule, type FieldEvaluation } from '@shared/rules'
 import type { ChecklistDefinition, ChecklistField } from '@shared/schemas/checklist'
-import { DESIGN_POINT_QUANTITIES, type DesignPoint, type DesignPointKey } from '@shared/schemas/design-point'
+import { DESIGN_POINT_QUANTITIES, type AnyDesignPoint, type DesignPoint, type DesignPointKey } from '@shared/schemas/design-point'
 import type { FieldEntry } from '@shared/schemas/reading'
 import type { LimitSet } from '@shared/rules'
 import { convert, convertDifference, displayUnit, formatNumber, formatQuantity, isUnitOf, kindLabel, unitLabel, type UnitSystem } from '@shared/units'
@@ -146,11 +146,16 @@ export function describeRule(field: ChecklistField, ctx: PreviewContext): string
         if (!field.quantity || !isUnitOf(field.quantity, field.unit)) return 'Needs a quantity and unit before the rule can be read.'
         const shown = displayUnit(field.quantity, ctx.unitSystem)
         const fmt = (v: number) => formatQuantity(convert(v, field.unit!, shown, field.quantity!), shown, field.quantity!)
-        const parts = [`Reach ${fmt(rule.setpoint)} within ${formatNumber(rule.reachWithinS, 1)} s of the start command`]
+        if (rule.setpointKey && !ctx.designPoint?.[rule.setpointKey as keyof DesignPoint]) {
+          const below = [rule.floorBelowPct !== undefined ? `never fall more than ${formatNumber(rule.floorBelowPct, 1)} % below it afterwards` : null, rule.warnFloorBelowPct !== undefined ? `marginal more than ${formatNumber(rule.warnFloorBelowPct, 1)} % below it` : null].filter(Boolean)
+          return cap([`Reach the machine's ${rule.setpointKey.replace(/([A-Z])/g, ' $1').toLowerCase()} (from its design point) within ${formatNumber(rule.reachWithinS, 1)} s of the start command`, ...(rule.holdS ? [`hold at or above it for ${formatNumber(rule.holdS, 1)} s before the drive starts`] : []), ...below].join('; ')) + '.'
+        }
+        const r = resolveRampRule(rule, field, ctx.designPoint as AnyDesignPoint | null)
+        const parts = [`Reach ${fmt(r.setpoint)} within ${formatNumber(rule.reachWithinS, 1)} s of the start command`]
         if (rule.reachNotBeforeS !== undefined) parts[0] += ` (not sooner than ${formatNumber(rule.reachNotBeforeS, 1)} s)`
         if (rule.holdS) parts.push(`hold at or above it for ${formatNumber(rule.holdS, 1)} s before the drive starts`)
-        if (rule.floor !== undefined) parts.push(`never fall below ${fmt(rule.floor)} afterwards`)
-        if (rule.warnFloor !== undefined) parts.push(`marginal below ${fmt(rule.warnFloor)}`)
+        if (r.floor !== undefined) parts.push(`never fall below ${fmt(r.floor)} afterwards`)
+        if (r.warnFloor !== undefined) parts.push(`marginal below ${fmt(r.warnFloor)}`)
         return cap(parts.join('; ')) + '.'
       }
       default: {
@@ -187,11 +192,17 @@ export function differenceIn(value: number, field: ChecklistField, to: string): 
 }
 
 /** An example oil-pressure style ramp for a ramp rule: rises to the setpoint, holds, then the drive starts. */
-export function exampleRamp(field: ChecklistField, unitSystem: UnitSystem): { points: Array<[number, number]>; driveStartS: number } | null {
+export function exampleRamp(field: ChecklistField, unitSystem: UnitSystem, designPoint?: DesignPoint | null): { points: Array<[number, number]>; driveStartS: number } | null {
   const rule = field.rule
   if (rule?.type !== 'ramp' || !field.quantity || !isUnitOf(field.quantity, field.unit)) return null
   const shown = displayUnit(field.quantity, unitSystem)
-  const sp = convert(rule.setpoint, field.unit!, shown, field.quantity)
+  let setpoint: number
+  try {
+    setpoint = resolveRampRule(rule, field, designPoint as AnyDesignPoint | null).setpoint
+  } catch {
+    return null
+  }
+  const sp = convert(setpoint, field.unit!, shown, field.quantity)
   const reach = Math.max(1, Math.round(rule.reachWithinS * 0.6))
   const hold = rule.holdS ?? 10
   const round = (v: number) => Math.round(v * 10) / 10

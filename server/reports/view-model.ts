@@ -1,8 +1,9 @@
 import { DEFER } from '@shared/library/cautions'
 import { acceptanceWords, byOthersOf, countRunRecord, describeDisposition, DISPOSITION_WORDS, exceptionsOf, OUTCOME_WORDS, performerStatement, SEVERITY_WORDS as SEVERITY_MEANINGS, type CheckOutcome, type CheckResult, type RecordException, type RunCount } from '@shared/record'
-import { classify, parseExpression, worstVerdict, type FieldEvaluation, type Verdict } from '@shared/rules'
+import { classify, parseExpression, resolveRampRule, worstVerdict, type FieldEvaluation, type Verdict } from '@shared/rules'
+import { EngineeringError } from '@shared/engineering'
 import type { ChecklistField, ChecklistSection, ChecklistStep, RampRule } from '@shared/schemas/checklist'
-import { DESIGN_POINT_QUANTITIES, EQUIPMENT_KIND_LABELS, isDesignPointKey, isEquipmentKind, type DesignPointKey } from '@shared/schemas/design-point'
+import { DESIGN_POINT_QUANTITIES, EQUIPMENT_KIND_LABELS, isDesignPointKey, isEquipmentKind, type AnyDesignPoint, type DesignPointKey } from '@shared/schemas/design-point'
 import type { SeriesEntry } from '@shared/schemas/reading'
 import type { ReportInput, SignatureRecord } from '@shared/types/report'
 import type { FindingSummary, RunReading } from '@shared/types/run'
@@ -266,6 +267,16 @@ function shownUnit(field: ChecklistField, evaluation: FieldEvaluation | undefine
 }
 
 /** The limits of an evaluation in words, in the unit the field is printed in. */
+/** The ramp rule with its setpoint and floors resolved from the design point; null when the design point lacks the value. */
+function resolvedRamp(rule: RampRule, field: ChecklistField, designPoint: Record<string, unknown>): ReturnType<typeof resolveRampRule> | null {
+  try {
+    return resolveRampRule(rule, field, designPoint as AnyDesignPoint)
+  } catch (err) {
+    if (err instanceof EngineeringError) return null
+    throw err
+  }
+}
+
 function limitsInWords(field: ChecklistField, evaluation: FieldEvaluation | undefined, system: UnitSystem, designPoint: Record<string, unknown>): string {
   const rule = field.rule
   if (!rule) return field.computed ? 'Computed; no limit' : 'Recorded; no limit'
@@ -287,8 +298,10 @@ function limitsInWords(field: ChecklistField, evaluation: FieldEvaluation | unde
   const n = (v: number) => formatNumber(at(v), decimals)
   if (rule.type === 'ramp') {
     const s = (v: number) => `${formatNumber(v, 1)} s`
-    const setpoint = convert(rule.setpoint, field.unit as string, unit, kind)
-    const parts = [`reach ${formatQuantity(setpoint, unit, kind)} within ${s(rule.reachWithinS)}`]
+    const resolved = resolvedRamp(rule, field, designPoint)
+    if (!resolved) return evaluation?.problem ? evaluation.problem.message : '—'
+    const setpoint = convert(resolved.setpoint, field.unit as string, unit, kind)
+    const parts = [`reach ${formatQuantity(setpoint, unit, kind)}${resolved.basis ? ` (${resolved.basis})` : ''} within ${s(rule.reachWithinS)}`]
     if (rule.reachNotBeforeS !== undefined) parts.push(`not before ${s(rule.reachNotBeforeS)}`)
     if (rule.holdS) parts.push(`hold at or above it ${s(rule.holdS)} before the drive starts`)
     if (limits.display.min !== undefined) parts.push(`never below ${q(limits.display.min)} after`)
@@ -484,15 +497,17 @@ function rampView(ctx: Context): RampView | null {
   const kind = place.field.quantity as QuantityKind
   const shown = evaluation.series?.unit ?? displayUnit(kind, ctx.system)
   const rule = place.field.rule as RampRule
+  const resolved = resolvedRamp(rule, place.field, ctx.input.equipment.designPoint)
+  if (!resolved) return null
   const toShown = (v: number | undefined) => (v === undefined ? null : convert(v, place.field.unit as string, shown, kind))
   return {
     fieldId: place.field.id,
     label: place.field.label,
     unit: unitLabel(kind, shown),
     points: entry.value.map(([t, v]) => [t, convert(v, entry.unit, shown, kind)]),
-    setpoint: toShown(rule.setpoint),
-    floor: toShown(rule.floor),
-    warnFloor: toShown(rule.warnFloor),
+    setpoint: toShown(resolved.setpoint),
+    floor: toShown(resolved.floor),
+    warnFloor: toShown(resolved.warnFloor),
     reachWithinS: rule.reachWithinS,
     holdS: rule.holdS ?? null,
     reachedAtS: evaluation.series?.timeToSetpointS ?? null,

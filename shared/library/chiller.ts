@@ -132,8 +132,8 @@ export const chillerStartupDefinition: ChecklistDefinition = {
           cautions: [NEVER_BYPASS, COUPLINGS],
           fields: [
             series('oilPressureRamp', 'Oil pressure from the oil pump start', 'pressure_differential', 'psid',
-              { type: 'ramp', setpoint: 35, reachWithinS: 30, holdS: 20, floor: 25, warnFloor: 30 },
-              { help: "Differential oil pressure against seconds from the oil pump start, with the moment the drive started marked. Common practice defaults: reach 35 psid within 30 s, hold at or above it for at least 20 s before the drive starts, never fall below 25 psid afterwards (below 30 psid is marginal). Set the setpoint to this machine's oil pressure setpoint (on its design point); the manufacturer's figures govern." }),
+              { type: 'ramp', setpointKey: 'oilPressureSetpoint', reachWithinS: 30, holdS: 20, floorBelowPct: 30, warnFloorBelowPct: 15 },
+              { help: "Differential oil pressure against seconds from the oil pump start, with the moment the drive started marked. The setpoint is this machine's oil pressure setpoint, entered on its design point from the manufacturer's manual. Common practice: reach it within 30 s, hold at or above it for at least 20 s before the drive starts, and never fall more than 30 % below it afterwards (more than 15 % below is marginal); the manufacturer's figures govern." }),
             measured('oilPressureAtDriveStart', 'Oil pressure when the drive started', 'pressure_differential', 'psid', { type: 'design', key: 'oilPressureSetpoint', lowerPct: 0 }, {
               help: "At or above the oil pressure setpoint on the machine's design point: the drive must not start before oil pressure is proven.",
             }),

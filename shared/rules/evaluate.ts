@@ -1,5 +1,5 @@
 import { EngineeringError, type EngineeringErrorCode } from '../engineering/errors'
-import type { ChecklistDefinition, ChecklistField, FieldRule } from '../schemas/checklist'
+import type { ChecklistDefinition, ChecklistField, FieldRule, RampRule } from '../schemas/checklist'
 import { DESIGN_POINT_QUANTITIES, isDesignPointKey, type AnyDesignPoint, type DesignPointKey } from '../schemas/design-point'
 import type { FieldEntry, SeriesEntry } from '../schemas/reading'
 import { distinguishingDecimals, formatNumber } from '../units/format'
@@ -343,6 +343,19 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
   }
 }
 
+/**
+ * A ramp rule's setpoint and floors in the field's unit: as written, or from the equipment's design value
+ * (`setpointKey`) with the floors that many percent below it, so the rule follows the machine's own setpoint in
+ * either unit system. A design point without the value throws MISSING_DESIGN_VALUE.
+ */
+export function resolveRampRule(rule: RampRule, field: ChecklistField, designPoint: AnyDesignPoint | null | undefined): { setpoint: number; floor?: number; warnFloor?: number; basis?: string } {
+  if (rule.setpointKey === undefined || !isDesignPointKey(rule.setpointKey)) return { setpoint: rule.setpoint as number, floor: rule.floor, warnFloor: rule.warnFloor }
+  const { kind, unit } = quantityOf(field)
+  const setpoint = designValue({ designPoint, unitSystem: 'SI' }, rule.setpointKey, unit, kind)
+  const below = (pct: number | undefined) => (pct === undefined ? undefined : setpoint * (1 - pct / 100))
+  return { setpoint, floor: below(rule.floorBelowPct), warnFloor: below(rule.warnFloorBelowPct), basis: `the ${humanKey(rule.setpointKey)} on the design point` }
+}
+
 function evaluateSeries(field: ChecklistField, entry: FieldEntry | null | undefined, context: EvaluationContext): FieldEvaluation {
   if (isEmpty(entry)) return incomplete(field, false, notRecorded(field))
   const { kind, unit } = quantityOf(field)
@@ -357,14 +370,23 @@ function evaluateSeries(field: ChecklistField, entry: FieldEntry | null | undefi
     return { ...base, verdict: 'recorded', message: `${field.label} recorded (${points.length} points)` }
   }
   const r = field.rule
+  let resolved: ReturnType<typeof resolveRampRule>
+  try {
+    resolved = resolveRampRule(r, field, context.designPoint)
+  } catch (err) {
+    if (err instanceof EngineeringError && err.code === 'MISSING_DESIGN_VALUE') {
+      return { ...base, verdict: 'incomplete', message: `${field.label} cannot be judged: ${err.message}`, problem: { code: err.code, message: err.message } }
+    }
+    throw err
+  }
   const toShown = (v: number | undefined) => (v === undefined ? undefined : convert(v, unit, shown, kind))
   const judgement = judgeRamp(
     points,
-    { setpoint: toShown(r.setpoint)!, reachWithinS: r.reachWithinS, reachNotBeforeS: r.reachNotBeforeS, holdS: r.holdS, floor: toShown(r.floor), warnFloor: toShown(r.warnFloor) },
+    { setpoint: toShown(resolved.setpoint)!, reachWithinS: r.reachWithinS, reachNotBeforeS: r.reachNotBeforeS, holdS: r.holdS, floor: toShown(resolved.floor), warnFloor: toShown(resolved.warnFloor) },
     { driveStartS: e.driveStartS, format: fmt },
   )
-  const displayLimits: LimitSet = { min: toShown(r.floor), warnMin: toShown(r.warnFloor) }
-  const canonicalLimits = mapLimits({ min: r.floor, warnMin: r.warnFloor }, (v) => toCanonical(v, unit, kind))
+  const displayLimits: LimitSet = { min: toShown(resolved.floor), warnMin: toShown(resolved.warnFloor) }
+  const canonicalLimits = mapLimits({ min: resolved.floor, warnMin: resolved.warnFloor }, (v) => toCanonical(v, unit, kind))
   return {
     ...base,
     verdict: judgement.verdict,
@@ -372,7 +394,7 @@ function evaluateSeries(field: ChecklistField, entry: FieldEntry | null | undefi
     limits: {
       display: { ...displayLimits, unit: shown },
       canonical: { ...canonicalLimits, unit: canonicalUnit(kind) },
-      basis: `setpoint ${fmt(toShown(r.setpoint)!)} within ${formatNumber(r.reachWithinS, 1)} s${r.holdS ? `, hold ${formatNumber(r.holdS, 1)} s` : ''}`,
+      basis: `setpoint ${fmt(toShown(resolved.setpoint)!)}${resolved.basis ? ` (${resolved.basis})` : ''} within ${formatNumber(r.reachWithinS, 1)} s${r.holdS ? `, hold ${formatNumber(r.holdS, 1)} s` : ''}`,
     },
     series: { ...judgement, unit: shown },
   }

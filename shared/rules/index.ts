@@ -1,4 +1,4 @@
-export { evaluateField, evaluateChecklist } from './evaluate'
+export { evaluateField, evaluateChecklist, judgedUnit, resolveRampRule } from './evaluate'
 export type { EvaluationContext, FieldEvaluation, LimitsUsed } from './evaluate'
 export { classify, worstVerdict, VERDICTS } from './verdict'
 export type { Verdict, LimitSet, Classification } from './verdict'

@@ -166,10 +166,15 @@ export const choiceRuleSchema = object({
 /**
  * A rise such as oil pressure after the pump starts: reach `setpoint` within `reachWithinS` seconds (and not before
  * `reachNotBeforeS`), stay at or above it for `holdS` seconds before the drive starts, never fall below `floor` after.
+ * With `setpointKey` the setpoint is the equipment's own design value (the machine's oil pressure setpoint) and the
+ * floors are percentages below it (`floorBelowPct`, `warnFloorBelowPct`), in whatever unit the project uses.
  */
 export const rampRuleSchema = object({
   type: ruleType('ramp'),
-  setpoint: finite().required('${path} is required'),
+  setpoint: finite().optional(),
+  setpointKey: string().optional().test('design-key', '${path} "${value}" is not a design-point value', (k) => k === undefined || isDesignPointKey(k)),
+  floorBelowPct: nonNegative().max(100, '${path} must be at most 100').optional(),
+  warnFloorBelowPct: nonNegative().max(100, '${path} must be at most 100').optional(),
   reachWithinS: positive().required('${path} is required'),
   reachNotBeforeS: nonNegative().optional(),
   holdS: nonNegative().optional(),
@@ -180,6 +185,10 @@ export const rampRuleSchema = object({
   .test('ramp-order', function (r) {
     const p = this.path
     const issues: Issue[] = []
+    if (r.setpoint === undefined && r.setpointKey === undefined) issues.push({ path: `${p}.setpoint`, message: `${p}.setpoint is required (or setpointKey, to take it from the design point)` })
+    if (r.setpointKey !== undefined && (r.setpoint !== undefined || r.floor !== undefined || r.warnFloor !== undefined)) issues.push({ path: `${p}.setpointKey`, message: `${p}.setpointKey takes the setpoint from the design point: give floorBelowPct and warnFloorBelowPct instead of setpoint, floor and warnFloor` })
+    if (r.setpointKey === undefined && (r.floorBelowPct !== undefined || r.warnFloorBelowPct !== undefined)) issues.push({ path: `${p}.floorBelowPct`, message: `${p}.floorBelowPct and warnFloorBelowPct need setpointKey` })
+    if (r.floorBelowPct !== undefined && r.warnFloorBelowPct !== undefined && r.warnFloorBelowPct > r.floorBelowPct) issues.push({ path: `${p}.warnFloorBelowPct`, message: `${p}.warnFloorBelowPct must lie inside the limits (not below the floor)` })
     if (r.reachNotBeforeS !== undefined && r.reachWithinS !== undefined && r.reachNotBeforeS > r.reachWithinS) issues.push({ path: `${p}.reachNotBeforeS`, message: `${p}.reachNotBeforeS must not exceed reachWithinS` })
     if (r.floor !== undefined && r.setpoint !== undefined && r.floor > r.setpoint) issues.push({ path: `${p}.floor`, message: `${p}.floor must not be above the setpoint` })
     if (r.warnFloor !== undefined && r.setpoint !== undefined && r.warnFloor > r.setpoint) issues.push({ path: `${p}.warnFloor`, message: `${p}.warnFloor must not be above the setpoint` })

@@ -203,6 +203,36 @@ describe('time-series judgement: oil-pressure ramp', () => {
     expect(r.message).toBe('Oil pressure reached the setpoint 241 kPa (diff) in 8.8 s, held it 26.3 s before the drive started and never fell below 241 kPa (diff) after reaching it')
     expect(r.series?.unit).toBe('kPad')
   })
+  describe('when the setpoint comes from the design point (setpointKey), then the floors follow the machine in either unit system', () => {
+    // Oil proven before the drive starts, floors as percentages below the machine's own setpoint: docs/REFERENCES.md, start sequence [CP]
+    const designRamp: ChecklistField = { ...field('oilRamp'), rule: { type: 'ramp', setpointKey: 'oilPressureSetpoint', reachWithinS: 30, holdS: 20, floorBelowPct: 30, warnFloorBelowPct: 15 } }
+    const siMachine = { unitSystem: 'SI' as const, definition, designPoint: { ...designPoint, oilPressureSetpoint: { value: 170, unit: 'kPad' } } }
+    it('an SI machine running exactly at its 170 kPa setpoint passes (the fixed 241 kPa rule failed it)', () => {
+      // 170 kPa steady from 8 s, drive at 35 s: setpoint reached, hold 27 s, minimum 170 ≥ floor 119 (170 × 0.70)
+      const r = evaluateField(designRamp, { value: [[0, 0], [8, 170], [60, 170]], unit: 'kPad', driveStartS: 35 }, siMachine)
+      expect(r.verdict).toBe('pass')
+      expect(r.limits?.display.min).toBeCloseTo(119, 9)
+      expect(r.limits?.display.warnMin).toBeCloseTo(144.5, 9)
+      expect(r.limits?.basis).toContain('oil pressure setpoint')
+    })
+    it('an SI machine that dips to 140 kPa is marginal (below 144.5, above 119), and to 110 kPa fails', () => {
+      expect(evaluateField(designRamp, { value: [[0, 0], [8, 170], [40, 170], [45, 140], [60, 170]], unit: 'kPad', driveStartS: 35 }, siMachine).verdict).toBe('marginal')
+      expect(evaluateField(designRamp, { value: [[0, 0], [8, 170], [40, 170], [45, 110], [60, 170]], unit: 'kPad', driveStartS: 35 }, siMachine).verdict).toBe('fail')
+    })
+    it('an I-P machine with a 35 psid setpoint: floor 24.5 psid, marginal below 29.75 psid', () => {
+      const ipMachine = { ...siMachine, unitSystem: 'IP' as const, designPoint: { ...designPoint, oilPressureSetpoint: { value: 35, unit: 'psid' } } }
+      const r = evaluateField(designRamp, { value: [[0, 0], [10, 40], [40, 40], [45, 28], [60, 36]], unit: 'psid', driveStartS: 40 }, ipMachine)
+      expect(r.verdict).toBe('marginal')
+      expect(r.limits?.display.min).toBeCloseTo(24.5, 9)
+      expect(r.limits?.display.warnMin).toBeCloseTo(29.75, 9)
+    })
+    it('a design point without the setpoint leaves the ramp incomplete, naming the missing value', () => {
+      const { oilPressureSetpoint: _drop, ...without } = designPoint as Record<string, unknown>
+      const r = evaluateField(designRamp, { value: [[0, 0], [8, 170], [60, 170]], unit: 'kPad', driveStartS: 35 }, { ...siMachine, designPoint: without as typeof designPoint })
+      expect(r.verdict).toBe('incomplete')
+      expect(r.problem?.code).toBe('MISSING_DESIGN_VALUE')
+    })
+  })
   it('when a soft-starter ramp of motor speed must reach 100 % between 3 and 8 s, then the same machinery judges it', () => {
     // Soft starters reach full speed in a few seconds (3.5–5 s quoted): REFERENCES.md §7 [CP]
     const speed = [[0, 0], [2, 40], [4, 90], [4.5, 100], [10, 100]] as Array<[number, number]>
