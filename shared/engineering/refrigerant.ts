@@ -78,17 +78,21 @@ export function saturationTempC(refrigerant: string, pressureKpaAbs: number, sid
   return 1 / interpolate(t.lnP, t.inverseT, lnP) - 273.15
 }
 
-/** Saturation temperature in °F at a gauge pressure in psig (negative for vacuum; 14.696 psia = 0 psig). */
-export function saturationTempF(refrigerant: string, pressurePsig: number, side: SaturationSide = 'dew'): number {
+/**
+ * Saturation temperature in °F at a gauge pressure in psig (negative for vacuum), the gauge read against the site's
+ * atmosphere `atmosphereKpa` (the standard 101.325 kPa = 14.696 psia by default): at altitude a vacuum reading is a
+ * lower absolute pressure and a colder saturation (docs/REFERENCES.md §Refrigerant saturation and site barometric pressure).
+ */
+export function saturationTempF(refrigerant: string, pressurePsig: number, side: SaturationSide = 'dew', atmosphereKpa = 101.325): number {
   table(refrigerant, side)
-  const kPaAbs = gaugeToAbsolute(requireFinite(pressurePsig, 'pressure'), 'psig', 'kPaa')
+  const kPaAbs = gaugeToAbsolute(requireFinite(pressurePsig, 'pressure'), 'psig', 'kPaa', requireFinite(atmosphereKpa, 'barometric pressure') * 1000)
   return saturationTempC(refrigerant, kPaAbs, side) * 1.8 + 32
 }
 
-/** Saturation pressure in psig (negative below atmospheric) at `tempF` °F. */
-export function saturationPressurePsig(refrigerant: string, tempF: number, side: SaturationSide = 'dew'): number {
+/** Saturation pressure in psig (negative below atmospheric) at `tempF` °F, against the site's atmosphere `atmosphereKpa`. */
+export function saturationPressurePsig(refrigerant: string, tempF: number, side: SaturationSide = 'dew', atmosphereKpa = 101.325): number {
   const kPaAbs = saturationPressureKpaAbs(refrigerant, (requireFinite(tempF, 'temperature') - 32) / 1.8, side)
-  return absoluteToGauge(kPaAbs, 'kPaa', 'psig')
+  return absoluteToGauge(kPaAbs, 'kPaa', 'psig', requireFinite(atmosphereKpa, 'barometric pressure') * 1000)
 }
 
 /** Evaporator approach in °F (or K from °C): leaving chilled water − saturated evaporator temperature. */

@@ -1,5 +1,7 @@
+import { requireBarometricKpa } from '../engineering/atmosphere'
+import { ahriTolerancePct } from '../engineering/efficiency'
 import { EngineeringError, type EngineeringErrorCode } from '../engineering/errors'
-import type { ChecklistDefinition, ChecklistField, FieldRule, RampRule } from '../schemas/checklist'
+import type { ChecklistDefinition, ChecklistField, FieldRule, RampRule, RatedAtLoadRule } from '../schemas/checklist'
 import { DESIGN_POINT_QUANTITIES, isDesignPointKey, type AnyDesignPoint, type DesignPointKey } from '../schemas/design-point'
 import type { FieldEntry, SeriesEntry } from '../schemas/reading'
 import { distinguishingDecimals, formatNumber } from '../units/format'
@@ -8,8 +10,10 @@ import {
   convert,
   convertDifference,
   displayUnit,
+  isReciprocalUnit,
   isUnitOf,
   toCanonical,
+  unitLabel,
   unitSpec,
   type QuantityKind,
   type UnitSystem,
@@ -27,6 +31,11 @@ export interface EvaluationContext {
   unitSystem: UnitSystem
   /** The checklist the field belongs to (needed by computed fields to find the fields they read). */
   definition?: ChecklistDefinition
+  /**
+   * The site's barometric pressure, kPa (the project's setting): gauge pressures are read against it. A reading of the
+   * run's `siteBarometric` field overrides it; without either, the standard sea-level atmosphere.
+   */
+  siteBarometricKpa?: number | null
 }
 
 export interface LimitsUsed {
@@ -61,6 +70,8 @@ export interface FieldEvaluation {
 interface ResolvedRule {
   limits: LimitSet
   basis?: string
+  /** Set when the rule says this value is recorded, not judged, and why ("at 62 % load: …"). */
+  notJudged?: string
 }
 
 const fieldIndexCache = new WeakMap<ChecklistDefinition, Map<string, ChecklistField>>()
@@ -146,10 +157,68 @@ function resolveRule(rule: FieldRule, field: ChecklistField, context: Evaluation
         basis: `design ${abs(d)}${describeSides(parts)}`,
       }
     }
+    case 'design_reference': {
+      const d = designValue(context, rule.key as DesignPointKey, unit, kind)
+      return { limits: {}, basis: `design ${abs(d)}`, notJudged: '' }
+    }
+    case 'rated_at_load':
+      return resolveRatedAtLoad(rule, field, context, shown)
     default:
       throw new EngineeringError('INVALID_ENTRY', `Rule ${rule.type} does not apply to a ${field.kind} field`, { fieldId: field.id })
   }
 }
+
+/**
+ * A rated quantity at the measured load: the AHRI 550/590 tolerance at that load (ahriTolerancePct, the design range
+ * from the design entering and leaving chilled water) applied below or above the design value; recorded instead when
+ * the test conditions say the value cannot be judged (docs/REFERENCES.md §Test conditions and rating tolerances).
+ */
+function resolveRatedAtLoad(rule: RatedAtLoadRule, field: ChecklistField, context: EvaluationContext, shown: string): ResolvedRule {
+  const { kind, unit } = quantityOf(field)
+  const abs = (v: number) => fmtIn(convert(v, unit, shown, kind), shown, kind)
+  const d = designValue(context, rule.key as DesignPointKey, unit, kind)
+  const index = context.definition ? fieldIndex(context.definition) : new Map<string, ChecklistField>()
+  if (rule.onlyWhen) {
+    const condition = index.get(rule.onlyWhen.field)
+    const answer = (context.readings?.[rule.onlyWhen.field] as { value?: unknown } | null | undefined)?.value
+    if (answer === undefined || answer === null || answer === '') {
+      throw new EngineeringError('MISSING_CONTEXT', `it needs ${condition?.label.toLowerCase() ?? rule.onlyWhen.field} in the test conditions`, { field: rule.onlyWhen.field })
+    }
+    if (!rule.onlyWhen.values.includes(String(answer))) {
+      const words = condition?.choices?.find((c) => c.value === answer)?.label ?? String(answer)
+      return { limits: {}, basis: `design ${abs(d)}`, notJudged: `not judged: ${lowerFirst(words)}` }
+    }
+  }
+  const loadField = index.get(rule.loadField)
+  if (!loadField) throw new EngineeringError('MISSING_CONTEXT', `the load field ${rule.loadField} is not in the checklist`, { field: rule.loadField })
+  const load = loadField.computed ? computeValue(loadField, context, []) : (() => {
+    const entry = context.readings?.[rule.loadField]
+    return isEmpty(entry) ? { missing: [loadField.label] } : { value: numberEntry(loadField, entry as FieldEntry).value }
+  })()
+  if ('missing' in load) throw new EngineeringError('MISSING_CONTEXT', `it needs ${joinLabels(load.missing)}`, { field: rule.loadField })
+  if ('error' in load) throw load.error
+  const loadPct = load.value
+  const loadText = `${formatNumber(loadPct, 0)} % load`
+  if (rule.minLoadPct !== undefined && loadPct < rule.minLoadPct) {
+    return { limits: {}, basis: `design ${abs(d)}`, notJudged: `not judged at ${loadText}: below ${formatNumber(rule.minLoadPct, 0)} % compare it with the manufacturer's part-load rating` }
+  }
+  const entering = designValue(context, 'evaporatorEnteringWaterTemp', 'degF', 'temperature')
+  const leaving = designValue(context, 'evaporatorLeavingWaterTemp', 'degF', 'temperature')
+  const tolerance = ahriTolerancePct(Math.min(Math.max(loadPct, 1), 100), entering - leaving)
+  const warn = (tolerance * (rule.warnSharePct ?? 50)) / 100
+  const sign = rule.side === 'below' ? -1 : 1
+  const at = (pct: number) => d + (sign * Math.abs(d) * pct) / 100
+  const limits: LimitSet = rule.side === 'below' ? { min: at(tolerance), warnMin: at(warn) } : { max: at(tolerance), warnMax: at(warn) }
+  const ahri = `the AHRI 550/590 tolerance at ${loadText}`
+  return {
+    limits,
+    basis: isReciprocalUnit(kind, shown)
+      ? `design ${abs(d)}, not below design ÷ ${formatNumber(1 + tolerance / 100, 3)}: ${ahri} is ${formatNumber(tolerance, 1)} % on ${unitLabel(kind, unit)}`
+      : `design ${abs(d)}, ${sign < 0 ? '−' : '+'}${formatNumber(tolerance, 1)} %: ${ahri}`,
+  }
+}
+
+const lowerFirst = (s: string) => (s ? s[0].toLowerCase() + s.slice(1) : s)
 
 function describeSides(parts: Array<string | null>): string {
   const [low, high] = parts
@@ -157,6 +226,14 @@ function describeSides(parts: Array<string | null>): string {
   if (low) return `, ${low}`
   if (high) return `, ${high}`
   return ''
+}
+
+const SWAPPED = { min: 'max', max: 'min', warnMin: 'warnMax', warnMax: 'warnMin' } as const
+
+function swapSides(limits: LimitSet): LimitSet {
+  const out: LimitSet = {}
+  for (const k of ['min', 'max', 'warnMin', 'warnMax'] as const) if (limits[k] !== undefined) out[SWAPPED[k]] = limits[k]
+  return out
 }
 
 function mapLimits(limits: LimitSet, f: (v: number) => number): LimitSet {
@@ -268,11 +345,28 @@ function computeValue(field: ChecklistField, context: EvaluationContext, trail: 
     if (q) design[key] = convert(q.value, q.unit, displayUnit(DESIGN_POINT_QUANTITIES[key], system), DESIGN_POINT_QUANTITIES[key])
   }
   try {
-    return { value: parsed.evaluate(values, design) }
+    return { value: parsed.evaluate(values, design, { atmosphereKpa: siteAtmosphereKpa(context) }) }
   } catch (err) {
     if (err instanceof EngineeringError) return { error: err }
     throw err
   }
+}
+
+/**
+ * The atmosphere the run's gauge pressures are read against, kPa: the run's own barometric reading (a field marked
+ * `siteBarometric`), else the project's site value, else undefined (the standard sea-level atmosphere).
+ */
+export function siteAtmosphereKpa(context: Pick<EvaluationContext, 'definition' | 'readings' | 'siteBarometricKpa'>): number | undefined {
+  if (context.definition) {
+    for (const f of fieldIndex(context.definition).values()) {
+      if (!f.siteBarometric) continue
+      const entry = context.readings?.[f.id]
+      if (isEmpty(entry)) break
+      const e = numberEntry(f, entry as FieldEntry)
+      return requireBarometricKpa(convert(e.value, e.unit, 'kPaa', 'pressure_absolute'))
+    }
+  }
+  return typeof context.siteBarometricKpa === 'number' ? context.siteBarometricKpa : undefined
 }
 
 function joinLabels(labels: string[]): string {
@@ -289,6 +383,24 @@ export function judgedUnit(field: ChecklistField, context: Pick<EvaluationContex
   if (kind === 'time') return unit
   const templateSystem = context.definition?.unitSystem ?? 'IP'
   return context.unitSystem === templateSystem ? unit : displayUnit(kind, context.unitSystem)
+}
+
+/** ", +1.2 °F" or ", −3.4 %": how far a recorded value lies from the design value of its rule, in the shown unit. */
+function deviationWords(field: ChecklistField, valueInFieldUnit: number, context: EvaluationContext, shown: string): string {
+  const rule = field.rule
+  if (!rule || (rule.type !== 'design_reference' && rule.type !== 'rated_at_load')) return ''
+  const { kind, unit } = quantityOf(field)
+  const d = designValue(context, rule.key as DesignPointKey, unit, kind)
+  const sign = (v: number) => (v > 0 ? '+' : '')
+  if (kind === 'temperature') {
+    const diffKind = 'temperature_difference'
+    const diffUnit = shown === 'degC' ? 'K' : shown === 'K' ? 'K' : 'deltaF'
+    const delta = convertDifference(valueInFieldUnit - d, unit === 'degC' ? 'K' : unit === 'K' ? 'K' : 'deltaF', diffUnit, diffKind)
+    return `, ${sign(delta)}${fmtIn(delta, diffUnit, diffKind)}`
+  }
+  if (d === 0) return ''
+  const pct = ((valueInFieldUnit - d) / Math.abs(d)) * 100
+  return `, ${sign(pct)}${formatNumber(pct, 1)} %`
 }
 
 function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefined, context: EvaluationContext): FieldEvaluation {
@@ -323,14 +435,27 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
   try {
     resolved = resolveRule(field.rule, field, context, shown)
   } catch (err) {
-    if (err instanceof EngineeringError && err.code === 'MISSING_DESIGN_VALUE') {
+    if (err instanceof EngineeringError && (err.code === 'MISSING_DESIGN_VALUE' || (field.rule.type === 'rated_at_load' && err.code !== 'INVALID_ENTRY'))) {
       return { ...base, verdict: 'incomplete', message: `${field.label} ${base.display!.text} cannot be judged: ${err.message}`, problem: { code: err.code, message: err.message } }
     }
     throw err
   }
+  if (resolved.notJudged !== undefined) {
+    // Recorded, not judged: the design value and the deviation from it are kept for the reader.
+    const reference = resolved.basis ? ` (${resolved.basis}${deviationWords(field, valueInFieldUnit, context, shown)})` : ''
+    return {
+      ...base,
+      verdict: 'recorded',
+      message: `${field.label} ${base.display!.text} recorded${reference}${resolved.notJudged ? `; ${resolved.notJudged}` : ''}`,
+      limits: { display: { unit: shown }, canonical: { unit: canonicalUnit(kind) }, ...(resolved.basis ? { basis: resolved.basis } : {}) },
+    }
+  }
   const canonicalLimits = mapLimits(resolved.limits, (v) => toCanonical(v, unit, kind))
-  const displayLimits = mapLimits(resolved.limits, (v) => convert(v, unit, shown, kind))
-  const c = classify(canonicalValue, canonicalLimits)
+  const reciprocal = isReciprocalUnit(kind, shown)
+  // In a reciprocal unit (COP from kW/ton) a maximum becomes a minimum: limits and the breached side swap.
+  const displayLimits = reciprocal ? swapSides(mapLimits(resolved.limits, (v) => convert(v, unit, shown, kind))) : mapLimits(resolved.limits, (v) => convert(v, unit, shown, kind))
+  const judged = classify(canonicalValue, canonicalLimits)
+  const c = reciprocal && judged.breached ? { ...judged, breached: SWAPPED[judged.breached] } : judged
   return {
     ...base,
     verdict: c.verdict,

@@ -17,6 +17,7 @@ export {
   fromCanonical,
   gaugeToAbsolute,
   absoluteToGauge,
+  isReciprocalUnit,
   quantityToCanonical,
 } from './quantities'
 export type { QuantityKind, UnitSystem, UnitSpec, Quantity } from './quantities'
