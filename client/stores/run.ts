@@ -185,7 +185,7 @@ export const useRunStore = defineStore('run', () => {
     const def = definition.value
     if (!def || !run.value) return out
     const hasLocal = Object.keys(local.value).length > 0
-    const context = { definition: def, designPoint: run.value.designPoint as AnyDesignPoint, unitSystem: run.value.unitSystem, readings: workingEntries.value }
+    const context = { definition: def, designPoint: run.value.designPoint as AnyDesignPoint, unitSystem: run.value.unitSystem, siteBarometricKpa: run.value.siteBarometricKpa, readings: workingEntries.value }
     for (const [id, { field }] of fieldIndex.value) {
       const stored = serverReading(id)?.evaluation
       if (stored && !local.value[id] && !(field.computed && hasLocal)) {
