@@ -137,9 +137,12 @@ export const chillerStartupDefinition: ChecklistDefinition = {
             measured('oilPressureAtDriveStart', 'Oil pressure when the drive started', 'pressure_differential', 'psid', { type: 'design', key: 'oilPressureSetpoint', lowerPct: 0 }, {
               help: "At or above the oil pressure setpoint on the machine's design point: the drive must not start before oil pressure is proven.",
             }),
-            timer('prelubeTime', 'Pre-lubrication time: oil pump start to drive start', { type: 'range', min: 20, warnMax: 60, max: 120 }, {
-              help: 'Common practice: the oil pump runs first and the drive starts after pressure is proven and a hold of about 20 s. At least 20 s; above 60 s is marginal and above 120 s fails — a long wait points at a slow pressure rise.',
-            }),
+            {
+              ...timer('prelubeTime', 'Pre-lubrication time: oil pump start to drive start', { type: 'range', min: 20, warnMax: 60, max: 120 }, {
+                help: 'Common practice: the oil pump runs first and the drive starts after pressure is proven and a hold of about 20 s. At least 20 s; above 60 s is marginal and above 120 s fails — a long wait points at a slow pressure rise. When the oil-pressure capture marks the drive start, that time is used; the stopwatch is for a start without a capture.',
+              }),
+              fromDriveStart: 'oilPressureRamp',
+            },
           ],
         },
         {

@@ -65,6 +65,8 @@ export interface FieldEvaluation {
   series?: RampJudgement & { unit: string }
   /** Why a value could not be judged (missing design value, a calculation that refused its inputs). */
   problem?: { code: EngineeringErrorCode; message: string }
+  /** Set when a timer's value was taken from a capture's drive start rather than its own entry: the capture's label. */
+  takenFrom?: string
 }
 
 interface ResolvedRule {
@@ -403,19 +405,36 @@ function deviationWords(field: ChecklistField, valueInFieldUnit: number, context
   return `, ${sign(pct)}${formatNumber(pct, 1)} %`
 }
 
+/** The drive start marked in the capture a timer takes its value from (`fromDriveStart`), when it has one. */
+function driveStartOf(field: ChecklistField, context: EvaluationContext): { seconds: number; label: string } | null {
+  if (field.kind !== 'timer' || !field.fromDriveStart || !context.definition) return null
+  const source = fieldIndex(context.definition).get(field.fromDriveStart)
+  const entry = context.readings?.[field.fromDriveStart] as SeriesEntry | null | undefined
+  const s = entry?.driveStartS
+  if (!source || typeof s !== 'number' || !Number.isFinite(s) || s < 0) return null
+  return { seconds: s, label: source.label }
+}
+
 function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefined, context: EvaluationContext): FieldEvaluation {
   const { kind, unit } = quantityOf(field)
   const computed = Boolean(field.computed)
   let valueInFieldUnit: number
+  let takenFrom: string | undefined
   if (computed) {
     const result = computeValue(field, context, [])
     if ('missing' in result) return incomplete(field, true, `${field.label} cannot be computed until ${joinLabels(result.missing)} ${result.missing.length > 1 ? 'are' : 'is'} recorded`)
     if ('error' in result) return incomplete(field, true, `${field.label} cannot be computed: ${result.error.message}`, result.error)
     valueInFieldUnit = result.value
   } else {
-    if (isEmpty(entry)) return incomplete(field, false, notRecorded(field))
-    const e = numberEntry(field, entry as FieldEntry)
-    valueInFieldUnit = convert(e.value, e.unit, unit, kind)
+    const fromCapture = driveStartOf(field, context)
+    if (fromCapture) {
+      valueInFieldUnit = convert(fromCapture.seconds, 's', unit, kind)
+      takenFrom = fromCapture.label
+    } else {
+      if (isEmpty(entry)) return incomplete(field, false, notRecorded(field))
+      const e = numberEntry(field, entry as FieldEntry)
+      valueInFieldUnit = convert(e.value, e.unit, unit, kind)
+    }
   }
   const shown = judgedUnit(field, context)
   const canonicalValue = toCanonical(valueInFieldUnit, unit, kind)
@@ -429,6 +448,7 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
     canonical: { value: canonicalValue, unit: canonicalUnit(kind) },
     display: { value: displayValue, unit: shown, text: fmtIn(displayValue, shown, kind) },
     limits: null,
+    ...(takenFrom ? { takenFrom } : {}),
   }
   if (!field.rule) return { ...base, verdict: 'recorded', message: `${field.label} ${base.display!.text} recorded` }
   let resolved: ResolvedRule
@@ -459,7 +479,7 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
   return {
     ...base,
     verdict: c.verdict,
-    message: numericMessage(field.label, displayValue, displayLimits, shown, kind, c, resolved.basis),
+    message: `${numericMessage(field.label, displayValue, displayLimits, shown, kind, c, resolved.basis)}${takenFrom ? `; taken from the drive start marked on ${lowerFirst(takenFrom)}` : ''}`,
     limits: {
       display: { ...displayLimits, unit: shown },
       canonical: { ...canonicalLimits, unit: canonicalUnit(kind) },

@@ -286,6 +286,11 @@ export const fieldSchema = object({
   rule: fieldRuleSchema,
   /** This reading is the site's barometric pressure on the day: the run's gauge pressures are read against it. */
   siteBarometric: boolean().optional(),
+  /**
+   * A timer whose value is the drive start marked in that time-series capture (seconds from its start) when the
+   * capture has one; the timer's own entry is the fallback. One timing, one place.
+   */
+  fromDriveStart: string().optional(),
   computed: object({ expression: string().required('${path} is required') })
     .exact('${path} has unknown keys: ${properties}')
     .default(undefined)
@@ -308,6 +313,7 @@ interface FieldLike {
   computed?: { expression: string }
   rule?: FieldRule
   siteBarometric?: boolean
+  fromDriveStart?: string
 }
 interface DefinitionLike {
   sections: Array<{ id: string; steps: Array<{ id: string; fields: FieldLike[] }> }>
@@ -459,6 +465,12 @@ function crossReferenceIssues(def: DefinitionLike): Issue[] {
         })
       }
     }
+  }
+  for (const { field, path } of fields) {
+    if (field.fromDriveStart === undefined) continue
+    const source = byId.get(field.fromDriveStart)
+    if (field.kind !== 'timer') issues.push({ path: `${path}.fromDriveStart`, message: `${path}.fromDriveStart is only for timer fields` })
+    else if (!source || source.field.kind !== 'time_series') issues.push({ path: `${path}.fromDriveStart`, message: `${path}.fromDriveStart "${field.fromDriveStart}" must be a time-series field` })
   }
   const dependsOn = new Map<string, string[]>()
   for (const { field, path } of fields) {

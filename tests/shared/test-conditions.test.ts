@@ -179,3 +179,27 @@ describe('the new rules in a template', () => {
     expect(paths.some((p) => p.endsWith('rule.onlyWhen.values[0]'))).toBe(true)
   })
 })
+
+describe('one timing, one place: the pre-lubrication time', () => {
+  const ramp = (driveStartS?: number): FieldEntry => ({ value: [[0, 0], [8, 36], [60, 37]], unit: 'psid', ...(driveStartS === undefined ? {} : { driveStartS }) }) as FieldEntry
+  it('when the oil-pressure capture marks the drive start, the pre-lubrication time is that mark, whatever the stopwatch said', () => {
+    const r = judge('prelubeTime', { oilPressureRamp: ramp(42.5), prelubeTime: q(300, 's') })
+    expect(r.display!.value).toBe(42.5)
+    expect(r.verdict).toBe('pass')
+    expect(r.takenFrom).toBe('Oil pressure from the oil pump start')
+    expect(r.message).toMatch(/taken from the drive start marked on oil pressure from the oil pump start$/)
+  })
+  it('without a drive-start mark the stopwatch reading is the fallback', () => {
+    const r = judge('prelubeTime', { oilPressureRamp: ramp(), prelubeTime: q(75, 's') })
+    expect(r.display!.value).toBe(75)
+    expect(r.verdict).toBe('marginal')
+    expect(r.takenFrom).toBeUndefined()
+    expect(judge('prelubeTime', {}).verdict).toBe('incomplete')
+  })
+  it('a fromDriveStart that names anything but a time-series field is refused with its path', async () => {
+    const broken = structuredClone(chiller)
+    fieldOf(broken, 'prelubeTime').fromDriveStart = 'oilPressureAtDriveStart'
+    const v = await validateChecklistDefinition(broken)
+    expect(v.errors.map((e) => e.path).some((p) => p.endsWith('fromDriveStart'))).toBe(true)
+  })
+})

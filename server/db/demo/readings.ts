@@ -183,7 +183,8 @@ export function chillerRun(
       driveStartS: driveS,
     })
     w.num('oilPressureAtDriveStart', peak * 0.995)
-    w.num('prelubeTime', driveS, 's', 0)
+    // The capture marks the drive start; a template without that link still asks for the stopwatch time.
+    if (!fieldPlaces(definition).get('prelubeTime')?.field.fromDriveStart) w.num('prelubeTime', driveS, 's', 0)
     w.num('starterRampTime', k.starterRampS ?? r.between(3.8, 6.2), 's', 1)
     yes(w, 'startWithoutTrouble')
   }
