@@ -365,6 +365,8 @@ function valueText(field: ChecklistField, reading: RunReading | undefined, syste
     // Enough digits to justify the verdict at a boundary: 1.002 % against a 1 % warning level never prints as "1 %".
     const limits = evaluation.limits ? Object.entries(evaluation.limits.display).filter(([k, v]) => k !== 'unit' && typeof v === 'number').map(([, v]) => convert(v as number, evaluation.limits!.display.unit, unit, kind)) : []
     const extra = limits.length ? distinguishingDecimals(value, limits, unitSpec(kind, unit).decimals) : 0
+    // As it was typed (its digits, inches of vacuum), unless the boundary needs more digits than it carries.
+    if (unit === evaluation.display.unit && evaluation.display.text && extra === 0) return evaluation.display.text
     return formatQuantity(value, unit, kind, extra)
   }
   const answer = evaluation.answer

@@ -4,7 +4,7 @@ import { EngineeringError, type EngineeringErrorCode } from '../engineering/erro
 import type { ChecklistDefinition, ChecklistField, FieldRule, RampRule, RatedAtLoadRule } from '../schemas/checklist'
 import { DESIGN_POINT_QUANTITIES, isDesignPointKey, type AnyDesignPoint, type DesignPointKey } from '../schemas/design-point'
 import type { FieldEntry, SeriesEntry } from '../schemas/reading'
-import { distinguishingDecimals, formatNumber } from '../units/format'
+import { distinguishingDecimals, enteredDecimals, formatNumber } from '../units/format'
 import {
   canonicalUnit,
   convert,
@@ -244,14 +244,14 @@ function mapLimits(limits: LimitSet, f: (v: number) => number): LimitSet {
   return out
 }
 
-function numericMessage(label: string, value: number, limits: LimitSet, unit: string, kind: QuantityKind, verdict: ReturnType<typeof classify>, basis?: string): string {
+function numericMessage(label: string, value: number, limits: LimitSet, unit: string, kind: QuantityKind, verdict: ReturnType<typeof classify>, basis?: string, typedExtra = 0): string {
   const base = unitSpec(kind, unit).decimals
   const present = Object.values(limits).filter((v): v is number => v !== undefined)
   const extra = distinguishingDecimals(value, present, base)
   const q = (v: number) => fmtIn(v, unit, kind, extra)
   const n = (v: number) => formatNumber(v, base + extra)
+  const v = fmtIn(value, unit, kind, Math.max(extra, typedExtra))
   const tail = basis ? ` (${basis})` : ''
-  const v = q(value)
   switch (verdict.breached) {
     case 'min':
       return `${label} ${v} is below the minimum ${q(limits.min as number)}${tail}`
@@ -420,6 +420,7 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
   const computed = Boolean(field.computed)
   let valueInFieldUnit: number
   let takenFrom: string | undefined
+  let typed: { value: number; unit: string } | null = null
   if (computed) {
     const result = computeValue(field, context, [])
     if ('missing' in result) return incomplete(field, true, `${field.label} cannot be computed until ${joinLabels(result.missing)} ${result.missing.length > 1 ? 'are' : 'is'} recorded`)
@@ -434,11 +435,15 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
       if (isEmpty(entry)) return incomplete(field, false, notRecorded(field))
       const e = numberEntry(field, entry as FieldEntry)
       valueInFieldUnit = convert(e.value, e.unit, unit, kind)
+      typed = e
     }
   }
-  const shown = judgedUnit(field, context)
+  // A vacuum typed in inches of mercury on an I-P gauge field reads back in inches of mercury vacuum, not as −psig.
+  const shown = kind === 'pressure_gauge' && typed?.unit === 'inHgVac' && judgedUnit(field, context) === 'psig' ? 'inHgVac' : judgedUnit(field, context)
   const canonicalValue = toCanonical(valueInFieldUnit, unit, kind)
-  const displayValue = convert(valueInFieldUnit, unit, shown, kind)
+  const displayValue = typed && typed.unit === shown ? typed.value : convert(valueInFieldUnit, unit, shown, kind)
+  // The digits it was typed with: 12.59 stays 12.59, 146.5 kPa stays 146.5 kPa (when it is shown in the unit typed).
+  const typedExtra = typed && typed.unit === shown ? Math.min(4, Math.max(0, enteredDecimals(typed.value) - unitSpec(kind, shown).decimals)) : 0
   const base: FieldEvaluation = {
     fieldId: field.id,
     verdict: 'pass',
@@ -446,7 +451,7 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
     required: field.required !== false,
     computed,
     canonical: { value: canonicalValue, unit: canonicalUnit(kind) },
-    display: { value: displayValue, unit: shown, text: fmtIn(displayValue, shown, kind) },
+    display: { value: displayValue, unit: shown, text: fmtIn(displayValue, shown, kind, typedExtra) },
     limits: null,
     ...(takenFrom ? { takenFrom } : {}),
   }
@@ -471,7 +476,8 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
     }
   }
   const canonicalLimits = mapLimits(resolved.limits, (v) => toCanonical(v, unit, kind))
-  const reciprocal = isReciprocalUnit(kind, shown)
+  // A unit that runs the other way (COP against kW/ton, inches of vacuum against gauge pressure): limits swap sides.
+  const reciprocal = isReciprocalUnit(kind, shown) || unitSpec(kind, shown).sign === -1
   // In a reciprocal unit (COP from kW/ton) a maximum becomes a minimum: limits and the breached side swap.
   const displayLimits = reciprocal ? swapSides(mapLimits(resolved.limits, (v) => convert(v, unit, shown, kind))) : mapLimits(resolved.limits, (v) => convert(v, unit, shown, kind))
   const judged = classify(canonicalValue, canonicalLimits)
@@ -479,7 +485,7 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
   return {
     ...base,
     verdict: c.verdict,
-    message: `${numericMessage(field.label, displayValue, displayLimits, shown, kind, c, resolved.basis)}${takenFrom ? `; taken from the drive start marked on ${lowerFirst(takenFrom)}` : ''}`,
+    message: `${numericMessage(field.label, displayValue, displayLimits, shown, kind, c, resolved.basis, typedExtra)}${takenFrom ? `; taken from the drive start marked on ${lowerFirst(takenFrom)}` : ''}`,
     limits: {
       display: { ...displayLimits, unit: shown },
       canonical: { ...canonicalLimits, unit: canonicalUnit(kind) },

@@ -203,3 +203,21 @@ describe('one timing, one place: the pre-lubrication time', () => {
     expect(v.errors.map((e) => e.path).some((p) => p.endsWith('fromDriveStart'))).toBe(true)
   })
 })
+
+describe('values as they were typed', () => {
+  // docs/REFERENCES.md §Units, conversions and printed digits: the digits entered, and vacuum in inches of mercury.
+  it('a leaving chilled-water temperature typed 44.25 °F is worded 44.25 °F, not 44.3 °F', () => {
+    const r = judge('chwLeaving', { chwLeaving: q(44.25, 'degF') })
+    expect(r.display!.text).toBe('44.25 °F')
+    expect(r.message).toMatch(/^Leaving chilled-water temperature 44\.25 °F is within/)
+  })
+  it('a vacuum typed as 11.6 inHg vacuum reads back in inches of mercury vacuum, never as −5.7 psig', () => {
+    const r = judge('evapPressure', { evapPressure: q(11.6, 'inHgVac') })
+    expect(r.display!.text).toBe('11.6 inHg vacuum')
+    expect(r.message).toBe('Evaporator refrigerant pressure 11.6 inHg vacuum recorded')
+  })
+  it('an SI project keeps 146.5 kPa (gauge) as typed', () => {
+    const r = judge('condPressure', { condPressure: q(146.5, 'kPag') }, { unitSystem: 'SI' })
+    expect(r.display!.text).toBe('146.5 kPa (gauge)')
+  })
+})
