@@ -7,7 +7,7 @@ import { DESIGN_POINT_QUANTITIES, EQUIPMENT_KIND_LABELS, isDesignPointKey, isEqu
 import type { SeriesEntry } from '@shared/schemas/reading'
 import type { ReportInput, SignatureRecord } from '@shared/types/report'
 import type { FindingSummary, RunReading } from '@shared/types/run'
-import { convert, convertDifference, displayUnit, distinguishingDecimals, formatNumber, formatQuantity, fromCanonical, unitLabel, unitSpec, type QuantityKind, type UnitSystem } from '@shared/units'
+import { convert, convertDifference, displayUnit, distinguishingDecimals, formatNumber, formatQuantity, fromCanonical, signedText, unitLabel, unitSpec, type QuantityKind, type UnitSystem } from '@shared/units'
 // The design-point rows the equipment pages show, in the project's units (pure functions; no Vue inside).
 import { designPointRows, designPointUnit } from '@shared/format/design-point'
 
@@ -333,8 +333,8 @@ function limitsInWords(field: ChecklistField, evaluation: FieldEvaluation | unde
     const designText = stored ? formatQuantity(fromCanonical(stored.value, unit, kind), unit, kind) : 'value missing'
     const sides =
       rule.type === 'design'
-        ? [rule.lowerPct === undefined ? null : `−${formatNumber(rule.lowerPct, 1)} %`, rule.upperPct === undefined ? null : `+${formatNumber(rule.upperPct, 1)} %`]
-        : [rule.lower === undefined ? null : `−${formatQuantity(convertDifference(rule.lower, fieldUnit, unit, kind), unit, kind)}`, rule.upper === undefined ? null : `+${formatQuantity(convertDifference(rule.upper, fieldUnit, unit, kind), unit, kind)}`]
+        ? [rule.lowerPct === undefined ? null : signedText(-rule.lowerPct, `${formatNumber(rule.lowerPct, 1)} %`), rule.upperPct === undefined ? null : signedText(rule.upperPct, `${formatNumber(rule.upperPct, 1)} %`)]
+        : [rule.lower === undefined ? null : signedText(-rule.lower, formatQuantity(convertDifference(rule.lower, fieldUnit, unit, kind), unit, kind)), rule.upper === undefined ? null : signedText(rule.upper, formatQuantity(convertDifference(rule.upper, fieldUnit, unit, kind), unit, kind))]
     basis = `design ${designText}${sides.some(Boolean) ? `, ${sides.filter(Boolean).join(' to ')}` : ''}`
   }
   return capitalise(`${parts.join('; ')}${basis ? ` (${basis})` : ''}`)

@@ -4,7 +4,7 @@ import { EngineeringError, type EngineeringErrorCode } from '../engineering/erro
 import type { ChecklistDefinition, ChecklistField, FieldRule, RampRule, RatedAtLoadRule } from '../schemas/checklist'
 import { DESIGN_POINT_QUANTITIES, isDesignPointKey, type AnyDesignPoint, type DesignPointKey } from '../schemas/design-point'
 import type { FieldEntry, SeriesEntry } from '../schemas/reading'
-import { distinguishingDecimals, enteredDecimals, formatNumber } from '../units/format'
+import { distinguishingDecimals, enteredDecimals, formatNumber, signedText } from '../units/format'
 import {
   canonicalUnit,
   convert,
@@ -144,7 +144,7 @@ function resolveRule(rule: FieldRule, field: ChecklistField, context: Evaluation
     case 'design': {
       const d = designValue(context, rule.key as DesignPointKey, unit, kind)
       const at = (pct: number | undefined, sign: -1 | 1) => (pct === undefined ? undefined : d + (sign * Math.abs(d) * pct) / 100)
-      const parts = [rule.lowerPct === undefined ? null : `−${formatNumber(rule.lowerPct, 1)} %`, rule.upperPct === undefined ? null : `+${formatNumber(rule.upperPct, 1)} %`]
+      const parts = [rule.lowerPct === undefined ? null : signedText(-rule.lowerPct, `${formatNumber(rule.lowerPct, 1)} %`), rule.upperPct === undefined ? null : signedText(rule.upperPct, `${formatNumber(rule.upperPct, 1)} %`)]
       return {
         limits: { min: at(rule.lowerPct, -1), max: at(rule.upperPct, 1), warnMin: at(rule.warnLowerPct, -1), warnMax: at(rule.warnUpperPct, 1) },
         basis: `design ${abs(d)}${describeSides(parts)}`,
@@ -153,7 +153,7 @@ function resolveRule(rule: FieldRule, field: ChecklistField, context: Evaluation
     case 'design_offset': {
       const d = designValue(context, rule.key as DesignPointKey, unit, kind)
       const at = (offset: number | undefined, sign: -1 | 1) => (offset === undefined ? undefined : d + sign * offset)
-      const parts = [rule.lower === undefined ? null : `−${diff(rule.lower)}`, rule.upper === undefined ? null : `+${diff(rule.upper)}`]
+      const parts = [rule.lower === undefined ? null : signedText(-rule.lower, diff(rule.lower)), rule.upper === undefined ? null : signedText(rule.upper, diff(rule.upper))]
       return {
         limits: { min: at(rule.lower, -1), max: at(rule.upper, 1), warnMin: at(rule.warnLower, -1), warnMax: at(rule.warnUpper, 1) },
         basis: `design ${abs(d)}${describeSides(parts)}`,

@@ -21,4 +21,4 @@ export {
   quantityToCanonical,
 } from './quantities'
 export type { QuantityKind, UnitSystem, UnitSpec, Quantity } from './quantities'
-export { formatNumber, formatQuantity, distinguishingDecimals, enteredDecimals } from './format'
+export { formatNumber, formatQuantity, distinguishingDecimals, enteredDecimals, signedText } from './format'
