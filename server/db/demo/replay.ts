@@ -106,7 +106,7 @@ export interface Actor {
 
 /** Steps a re-test repeats: the running checks, and whatever failed, was marginal or had a finding the first time. */
 const RETEST_KEEPS: Record<string, string[]> = {
-  centrifugal_chiller: ['prestart-safety', 'water-flow', 'motor-supply', 'oil-running', 'evaporator', 'condenser', 'performance', 'setpoint'],
+  centrifugal_chiller: ['prestart-safety', 'water-flow', 'test-conditions', 'motor-supply', 'oil-running', 'evaporator', 'condenser', 'performance', 'setpoint'],
   pump: ['pump-safety', 'alignment-final', 'hydraulic', 'pump-electrical', 'mechanical'],
 }
 
