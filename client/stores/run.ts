@@ -113,6 +113,8 @@ export const useRunStore = defineStore('run', () => {
   const held = ref<Record<string, HeldReading>>({})
   /** Values the technician confirmed as typed after the plausibility question: not asked again. */
   const confirmedAsTyped = ref<Record<string, string>>({})
+  /** What each field held when the technician started typing in it (see holdReading). */
+  let editStart: Record<string, LocalReading> = {}
   const stepErrors = ref<Record<string, string>>({})
   const loadError = ref<string | null>(null)
   const isLoading = ref(false)
@@ -349,6 +351,7 @@ export const useRunStore = defineStore('run', () => {
     fieldErrors.value = {}
     held.value = {}
     confirmedAsTyped.value = {}
+    editStart = {}
     stepErrors.value = {}
     loadError.value = null
     fromDevice.value = false
@@ -456,14 +459,14 @@ export const useRunStore = defineStore('run', () => {
    * Records a change to a field: kept in the page at once (the live verdict follows), written to this device's
    * queue, and sent after typing settles. A value the field's own schema refuses stays in the page with the reason.
    */
-  async function setReading(fieldId: string, patch: Partial<LocalReading>, options: { typingProblem?: string | null } = {}) {
+  async function setReading(fieldId: string, patch: Partial<LocalReading>, options: { typingProblem?: string | null; keepHeld?: boolean } = {}) {
     const found = fieldIndex.value.get(fieldId)
     if (!found || !canEdit.value || !queue.value) return
     const next = readingContent({ ...working(fieldId), ...patch })
     local.value[fieldId] = next
     delete fieldErrors.value[fieldId]
     // A new value or a disposition answers a held value; a justification typed meanwhile does not.
-    if ('entry' in patch || patch.disposition) delete held.value[fieldId]
+    if (!options.keepHeld && ('entry' in patch || patch.disposition)) delete held.value[fieldId]
     const problem = options.typingProblem ?? validateReading(found.field, next)
     if (problem) {
       fieldErrors.value[fieldId] = problem
@@ -486,12 +489,25 @@ export const useRunStore = defineStore('run', () => {
     return plausibilityQuestion(found.field, entry, { designPoint: run.value.designPoint as AnyDesignPoint }, typed)
   }
 
-  /** Keeps an implausible typed number in the page without saving it; the question waits until typing is done. */
-  function holdReading(fieldId: string, entry: FieldEntry, typed: string, question: PlausibilityQuestion) {
+  /** The technician starts typing in a field: what it holds now is what it goes back to while a value is held. */
+  function beginEdit(fieldId: string) {
+    if (!held.value[fieldId]) editStart[fieldId] = { ...working(fieldId) }
+  }
+
+  /**
+   * Keeps an implausible typed number in the page without saving it; the question waits until typing is done. The
+   * keystrokes on the way to it were kept as they came ("36" on the way to "368"), so the field goes back to what it
+   * held before the typing began: no value nobody meant is recorded while the question is open.
+   */
+  async function holdReading(fieldId: string, entry: FieldEntry, typed: string, question: PlausibilityQuestion) {
     if (!canEdit.value) return
     const before = held.value[fieldId]
     held.value[fieldId] = { entry, typed, question, asking: before?.asking ?? false }
     delete fieldErrors.value[fieldId]
+    const start = editStart[fieldId]
+    if (start && canonicalJson(working(fieldId).entry) !== canonicalJson(start.entry)) {
+      await setReading(fieldId, { entry: start.entry }, { keepHeld: true })
+    }
   }
 
   /** Puts the question of a held value on screen (the technician left the input or pressed Enter). */
@@ -637,6 +653,6 @@ export const useRunStore = defineStore('run', () => {
     run, local, localSteps, fieldErrors, stepErrors, held, loadError, isLoading, fromDevice, storageProblem, queue,
     definition, steps, fieldIndex, canEdit, liveEvaluations, overallProgress, saveState,
     working, workingStep, serverReading, stepProgress, liveCount, conflictFor, stepConflictFor, isAnswered,
-    open, close, refresh, setReading, setStep, refusal, plausibilityFor, holdReading, askHeld, editHeld, releaseHeld, answerHeld, keepTheirs, useMine, addPhoto, removePhoto, uploadFile, createFinding, updateFinding,
+    open, close, refresh, setReading, setStep, refusal, plausibilityFor, beginEdit, holdReading, askHeld, editHeld, releaseHeld, answerHeld, keepTheirs, useMine, addPhoto, removePhoto, uploadFile, createFinding, updateFinding,
   }
 })

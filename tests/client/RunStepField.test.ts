@@ -128,6 +128,23 @@ describe('RunStepField: a typed value far from the design point', () => {
     expect(storage.changes.size).toBe(0)
   })
 
+  it('when 368 is typed a key at a time, then the 36 kept on the way is withdrawn and the field holds what it had before', async () => {
+    const { store, wrapper: w } = await mountField('evapPressure')
+    const el = input(w, 'evapPressure')
+    el.element.focus()
+    for (const text of ['3', '36', '368']) {
+      await el.setValue(text)
+      await vi.advanceTimersByTimeAsync(100)
+    }
+    await flushPromises()
+    expect(store.held.evapPressure?.typed).toBe('368')
+    expect(store.working('evapPressure').entry).toBeNull()
+    await vi.advanceTimersByTimeAsync(1000)
+    for (const call of api.saveReading.mock.calls) expect(call[2].entry).toBeNull()
+    expect(store.liveEvaluations.evapSatTemp.message).toMatch(/cannot be computed until Evaporator refrigerant pressure is recorded/)
+    expect(el.element.value).toBe('368')
+  })
+
   it('when the suggestion is taken, then 36.8 psig is saved, shown in the input, and the question goes', async () => {
     const { store, wrapper: w } = await mountField('evapPressure')
     await type(w, 'evapPressure', '368')
