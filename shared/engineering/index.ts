@@ -1,5 +1,5 @@
 export { EngineeringError, requireFinite, requireNonNegative, requirePositive } from './errors'
-export type { EngineeringErrorCode } from './errors'
+export type { EngineeringErrorCode, ErrorQuantity, ErrorRange } from './errors'
 export {
   capacityTons,
   waterHeatTons,

@@ -19,6 +19,7 @@ import {
   type UnitSystem,
 } from '../units/quantities'
 import { parseExpression } from './expression'
+import { problemInProjectUnits } from './problem-units'
 import { judgeRamp, type RampJudgement } from './series'
 import { classify, type LimitSet, type Verdict } from './verdict'
 
@@ -424,7 +425,10 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
   if (computed) {
     const result = computeValue(field, context, [])
     if ('missing' in result) return incomplete(field, true, `${field.label} cannot be computed until ${joinLabels(result.missing)} ${result.missing.length > 1 ? 'are' : 'is'} recorded`)
-    if ('error' in result) return incomplete(field, true, `${field.label} cannot be computed: ${result.error.message}`, result.error)
+    if ('error' in result) {
+      const problem = problemInProjectUnits(result.error, context.unitSystem)
+      return incomplete(field, true, `${field.label} cannot be computed: ${problem.message}`, problem)
+    }
     valueInFieldUnit = result.value
   } else {
     const fromCapture = driveStartOf(field, context)

@@ -8,3 +8,6 @@ export { parseExpression, EXPRESSION_FUNCTIONS, DESIGN_SCOPE_NAME } from './expr
 export type { ParsedExpression } from './expression'
 export { physicalBoundsProblem } from './physical'
 export { conditionRuleWords } from './words'
+export { plausibilityQuestion, shiftDecimalPoint, PLAUSIBILITY_SCALES } from './plausibility'
+export type { PlausibilityQuestion, PlausibilityReference, PlausibilityContext } from './plausibility'
+export { problemInProjectUnits } from './problem-units'
