@@ -16,7 +16,7 @@ export const ELEVATION_RANGE_M = { min: -500, max: 5000 } as const
 export function barometricFromElevationKpa(elevationM: number): number {
   const z = requireFinite(elevationM, 'site elevation')
   if (z < ELEVATION_RANGE_M.min || z > ELEVATION_RANGE_M.max) {
-    throw new EngineeringError('OUT_OF_RANGE', `Site elevation must be between ${ELEVATION_RANGE_M.min} m and ${ELEVATION_RANGE_M.max} m, got ${z} m`, { elevationM })
+    throw new EngineeringError('OUT_OF_RANGE', `Site elevation must be between \u2212${-ELEVATION_RANGE_M.min} m and ${ELEVATION_RANGE_M.max} m, got ${z < 0 ? `\u2212${-z}` : z} m`, { elevationM })
   }
   return STANDARD_ATMOSPHERE_KPA * (1 - 2.25577e-5 * z) ** 5.2559
 }

@@ -1,5 +1,6 @@
 import * as yup from 'yup'
 import { BAROMETRIC_RANGE_KPA, ELEVATION_RANGE_M } from '../engineering/atmosphere'
+import { formatNumber } from '../units/format'
 import { changesSomething, confirmVoidSchema, editVersionSchema } from './edit'
 
 /** Whether `zone` is an IANA time zone this runtime knows (e.g. `America/Chicago`). */
@@ -31,7 +32,7 @@ const strictNumber = (label: string) =>
 /** Site elevation in metres (ELEVATION_RANGE_M), or null. */
 const siteElevation = () =>
   strictNumber('Site elevation')
-    .min(ELEVATION_RANGE_M.min, `Site elevation must be at least ${ELEVATION_RANGE_M.min} m`)
+    .min(ELEVATION_RANGE_M.min, `Site elevation must be at least ${formatNumber(ELEVATION_RANGE_M.min, 0)} m`)
     .max(ELEVATION_RANGE_M.max, `Site elevation must be at most ${ELEVATION_RANGE_M.max} m`)
 
 /** Site barometric pressure in kPa (BAROMETRIC_RANGE_KPA), or null. */

@@ -156,7 +156,7 @@ describe('site barometric pressure: gauge and vacuum readings at altitude', () =
   it('a barometric pressure outside 60–110 kPa or an elevation outside −500…5000 m is refused', () => {
     expect(() => requireBarometricKpa(59.9)).toThrow(/between 60 kPa and 110 kPa/)
     expect(() => requireBarometricKpa(110.1)).toThrow(/between 60 kPa and 110 kPa/)
-    expect(() => barometricFromElevationKpa(5001)).toThrow(/between -500 m and 5000 m/)
+    expect(() => barometricFromElevationKpa(5001)).toThrow(/between −500 m and 5000 m/)
     expect(() => barometricFromElevationKpa(-501)).toThrow(/elevation/)
     expect(siteBarometric({ barometricKpa: 90 })).toEqual({ kpa: 90, source: 'stated' })
     expect(siteBarometric({ siteElevationM: 1500 }).source).toBe('elevation')
