@@ -128,7 +128,7 @@ export const chillerStartupDefinition: ChecklistDefinition = {
         {
           id: 'prelube',
           title: 'Pre-lubrication and oil-pressure proving',
-          help: 'Start the timer with the oil pump start command. The drive may start only after oil pressure is proven and the proving hold has run.',
+          help: 'Capture the oil pressure from the oil pump start command and mark when the drive started: the pre-lubrication time is read from that mark (use the stopwatch only when there is no capture). The drive may start only after oil pressure is proven and the proving hold has run.',
           cautions: [NEVER_BYPASS, COUPLINGS],
           fields: [
             series('oilPressureRamp', 'Oil pressure from the oil pump start', 'pressure_differential', 'psid',
