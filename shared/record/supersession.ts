@@ -1,4 +1,5 @@
-import { countRunRecord, type CheckOutcome, type RunCount } from './counting'
+// Types only: the Verify page reads these words without loading the counting rule's expression parser.
+import type { CheckOutcome, RunCount } from './counting'
 
 /**
  * Supersession by check, not by report (docs/REFERENCES.md §Record keeping: supersession by check). A later accepted
@@ -7,7 +8,7 @@ import { countRunRecord, type CheckOutcome, type RunCount } from './counting'
  * the earlier report the record for those checks, and every screen, Verify and the re-test's own cover say so.
  *
  * Everything here is pure and reads only what was signed: the check index of each report is computed from its signed
- * snapshot with the one counting rule (`countRunRecord`) and kept with the report when it is issued.
+ * snapshot with the one counting rule (`countRunRecord`, then `checkIndexOf`) and kept with the report when it is issued.
  */
 
 /** A check is performed in a run when it has a real outcome of its own: judged (not incomplete) or recorded. */
@@ -30,6 +31,7 @@ export interface CheckIndex {
   carried: Record<string, string>
 }
 
+/** The check index of a counted run: `checkIndexOf(countRunRecord(snapshot))` for a signed snapshot. */
 export function checkIndexOf(count: RunCount): CheckIndex {
   const performed: string[] = []
   const carried: Record<string, string> = {}
@@ -41,11 +43,6 @@ export function checkIndexOf(count: RunCount): CheckIndex {
     }
   }
   return { checks: count.totals.checks, performed, carried }
-}
-
-/** The check index of a run from its signed snapshot (or any record `countRunRecord` reads). */
-export function checkIndexOfRecord(run: Parameters<typeof countRunRecord>[0]): CheckIndex {
-  return checkIndexOf(countRunRecord(run))
 }
 
 /** An accepted report as supersession reads it. */

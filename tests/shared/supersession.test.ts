@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest'
 import {
   carriedFromOf,
-  checkIndexOfRecord,
+  checkIndexOf,
+  countRunRecord,
   normalizeDisposition,
   originOf,
   reportSupersession,
@@ -47,7 +48,7 @@ function record(opts: { read: string[]; verdicts?: Record<string, string>; carry
   for (const f of opts.read) readings[f] = reading(f, opts.verdicts?.[f])
   for (const [f, from] of Object.entries(opts.carryFields ?? {})) readings[f] = { fieldId: f, evaluation: { verdict: 'incomplete' }, disposition: carried(from) }
   const steps = Object.fromEntries(Object.entries(opts.carry ?? {}).map(([stepId, from]) => [stepId, { stepId, disposition: carried(from) }]))
-  return checkIndexOfRecord({ definition, readings, steps })
+  return checkIndexOf(countRunRecord({ definition, readings, steps }))
 }
 
 const B = 'SP-2024-000007'
