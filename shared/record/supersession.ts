@@ -29,20 +29,27 @@ export interface CheckIndex {
   performed: string[]
   /** Checks carried over ("verified earlier"): field id → the report number the disposition names. */
   carried: Record<string, string>
+  /**
+   * Checks recorded as done by others (the manufacturer's engineer, say), their record named in this report: not
+   * performed here, so they supersede nothing, but a later re-test that carries them over cites this report rightly.
+   */
+  byOthers: string[]
 }
 
 /** The check index of a counted run: `checkIndexOf(countRunRecord(snapshot))` for a signed snapshot. */
 export function checkIndexOf(count: RunCount): CheckIndex {
   const performed: string[] = []
   const carried: Record<string, string> = {}
+  const byOthers: string[] = []
   for (const r of count.results.values()) {
     if (isPerformed(r.outcome)) performed.push(r.fieldId)
+    else if (r.outcome === 'by_others') byOthers.push(r.fieldId)
     else if (r.outcome === 'verified_earlier') {
       const cited = r.disposition?.reportNumber?.trim()
       if (cited) carried[r.fieldId] = cited
     }
   }
-  return { checks: count.totals.checks, performed, carried }
+  return { checks: count.totals.checks, performed, carried, byOthers }
 }
 
 /** An accepted report as supersession reads it. */
@@ -158,10 +165,13 @@ export interface CarriedOrigin {
   origin: string | null
   /** Every report from the cited one to where the chain stops, in order. */
   chain: string[]
+  /** The origin holds the check as done by others (its record named there), not performed by its own technician. */
+  byOthers: boolean
   /**
    * `not_in_lineage`: the cited (or a further) report is no issued report of this equipment with this checklist here
    * (another firm's record, or a typo): the origin is taken as cited. `not_performed`: a report of the chain neither
-   * performed nor carried the check. `circular`: the chain comes back on itself.
+   * performed the check, nor recorded it as done by others, nor carried it over (it was not applicable, deferred or not
+   * done there). `circular`: the chain comes back on itself.
    */
   problem: 'not_in_lineage' | 'not_performed' | 'circular' | null
 }
@@ -176,11 +186,12 @@ export function originOf(fieldId: string, cited: string, lineage: readonly Issue
   let at = cited
   for (;;) {
     const report = byNumber.get(at)
-    if (!report) return { fieldId, cited, origin: at, chain, problem: 'not_in_lineage' }
-    if (!report.index || report.index.performed.includes(fieldId)) return { fieldId, cited, origin: at, chain, problem: null }
+    if (!report) return { fieldId, cited, origin: at, chain, byOthers: false, problem: 'not_in_lineage' }
+    if (!report.index || report.index.performed.includes(fieldId)) return { fieldId, cited, origin: at, chain, byOthers: false, problem: null }
+    if (report.index.byOthers?.includes(fieldId)) return { fieldId, cited, origin: at, chain, byOthers: true, problem: null }
     const next = report.index.carried[fieldId]
-    if (!next) return { fieldId, cited, origin: null, chain, problem: 'not_performed' }
-    if (chain.includes(next)) return { fieldId, cited, origin: null, chain: [...chain, next], problem: 'circular' }
+    if (!next) return { fieldId, cited, origin: null, chain, byOthers: false, problem: 'not_performed' }
+    if (chain.includes(next)) return { fieldId, cited, origin: null, chain: [...chain, next], byOthers: false, problem: 'circular' }
     chain.push(next)
     at = next
   }
@@ -193,6 +204,8 @@ export interface CarriedFrom {
   checks: number
   /** The reports the dispositions named, when not the origin itself (the carried-over chain: "cited as SP-…"). */
   citedAs: string[]
+  /** The origin recorded these checks as done by others. */
+  byOthers: boolean
   problem: CarriedOrigin['problem']
 }
 
@@ -202,9 +215,9 @@ export function carriedFromOf(index: CheckIndex, lineage: readonly IssuedChecks[
   for (const [fieldId, cited] of Object.entries(index.carried)) {
     const o = originOf(fieldId, cited, byNumber)
     const reportNumber = o.origin ?? o.cited
-    const key = `${reportNumber}\u0000${o.problem ?? ''}`
+    const key = `${reportNumber}\u0000${o.problem ?? ''}\u0000${o.byOthers}`
     let g = groups.get(key)
-    if (!g) groups.set(key, (g = { reportNumber, checks: 0, citedAs: [], problem: o.problem }))
+    if (!g) groups.set(key, (g = { reportNumber, checks: 0, citedAs: [], byOthers: o.byOthers, problem: o.problem }))
     g.checks += 1
     if (o.cited !== reportNumber && !g.citedAs.includes(o.cited)) g.citedAs.push(o.cited)
   }
@@ -224,7 +237,8 @@ export function carriedWords(carried: readonly CarriedFrom[]): string[] {
     if (c.problem === 'not_in_lineage') return `${n} carried over from ${c.reportNumber}, which is not an issued report of this equipment with this checklist here.`
     if (c.problem === 'not_performed') return `${n} cite${c.checks === 1 ? 's' : ''} ${c.reportNumber}, where ${they} not performed.`
     if (c.problem === 'circular') return `${n} cite${c.checks === 1 ? 's' : ''} ${c.reportNumber}, whose carried-over chain never reaches a report that performed ${c.checks === 1 ? 'it' : 'them'}.`
-    return `${n} carried over from ${c.reportNumber}${c.citedAs.length ? ` (cited as ${listWords(c.citedAs)}, which carried ${c.checks === 1 ? 'it' : 'them'} over in turn)` : ''}.`
+    const chain = c.citedAs.length ? ` (cited as ${listWords(c.citedAs)}, which carried ${c.checks === 1 ? 'it' : 'them'} over in turn)` : ''
+    return `${n} carried over from ${c.reportNumber}${chain}${c.byOthers ? `, where ${they} recorded as done by others` : ''}.`
   })
 }
 

@@ -39,7 +39,7 @@ const fields = (prefix: string, n: number) => Array.from({ length: n }, (_, i) =
 const RUNNING = fields('run', 8)
 const REST = fields('rest', 87)
 const BASELINE = 'SP-2024-000007'
-const baseline: IssuedChecks = { reportNumber: BASELINE, acceptedAt: '2024-10-01T15:00:00Z', index: { checks: 95, performed: [...RUNNING, ...REST], carried: {} } }
+const baseline: IssuedChecks = { reportNumber: BASELINE, acceptedAt: '2024-10-01T15:00:00Z', index: { checks: 95, performed: [...RUNNING, ...REST], carried: {}, byOthers: [] } }
 const carryRest = (from: string): Record<string, string> => Object.fromEntries(REST.map((f) => [f, from]))
 
 const run = { id: 'run-2', equipmentTag: 'CH-7', projectCode: 'HSP-1', projectName: 'Test hospital plant', templateName: 'Chiller start-up', templateVersionNumber: 1, signatures: [] } as unknown as RunDetail
@@ -74,7 +74,7 @@ afterEach(() => {
 
 describe('RunSignDialog: what accepting the run supersedes', () => {
   it('when a re-test performs 8 of 95 checks, then the performer is told plainly before signing what it supersedes and what stays current', async () => {
-    await open(review({ checks: 95, performed: RUNNING, carried: carryRest(BASELINE) }, [baseline]), 'performed_by')
+    await open(review({ checks: 95, performed: RUNNING, carried: carryRest(BASELINE), byOthers: [] }, [baseline]), 'performed_by')
     expect(box()?.dataset.few).toBe('true')
     expect([...box()!.querySelectorAll('li')].map((li) => li.textContent)).toEqual([
       'This run performs only 8 of its 95 checks; the other 87 are carried over or set aside.',
@@ -85,14 +85,14 @@ describe('RunSignDialog: what accepting the run supersedes', () => {
   })
 
   it('when the owner’s representative accepts a full re-test, then the dialog says it supersedes the earlier report as a whole', async () => {
-    await open(review({ checks: 95, performed: [...RUNNING, ...REST], carried: {} }, [baseline]), 'accepted_by')
+    await open(review({ checks: 95, performed: [...RUNNING, ...REST], carried: {}, byOthers: [] }, [baseline]), 'accepted_by')
     expect(box()?.dataset.few).toBe('false')
     expect(box()!.textContent).toContain(`Accepting this run supersedes all 95 checks of ${BASELINE}: none stays current there.`)
     expect(box()!.querySelector('h3')?.textContent).toBe('What accepting this run supersedes')
   })
 
   it('when the run is the first of its equipment and checklist and carries nothing over, then nothing is said about supersession', async () => {
-    await open(review({ checks: 95, performed: [...RUNNING, ...REST], carried: {} }, []), 'performed_by')
+    await open(review({ checks: 95, performed: [...RUNNING, ...REST], carried: {}, byOthers: [] }, []), 'performed_by')
     expect(document.querySelector('[data-test=sign-what]')).not.toBeNull()
     expect(box()).toBeNull()
   })

@@ -132,11 +132,11 @@ describe('a baseline and its re-tests', () => {
     // A near-empty re-test: one check performed, everything else "verified earlier" in R1.
     const r3 = issued(R3, '2025-06-20T15:00:00Z', record({ read: ['el1'], carry: { running: R1, mechanical: R1, controls: R1 }, carryFields: Object.fromEntries(STEPS.electrical.slice(1).map((f) => [f, R1])) }))
 
-    expect(originOf('run1', R1, [b, r1])).toEqual({ fieldId: 'run1', cited: R1, origin: R1, chain: [R1], problem: null })
-    expect(originOf('me1', R1, [b, r1])).toEqual({ fieldId: 'me1', cited: R1, origin: B, chain: [R1, B], problem: null })
+    expect(originOf('run1', R1, [b, r1])).toEqual({ fieldId: 'run1', cited: R1, origin: R1, chain: [R1], byOthers: false, problem: null })
+    expect(originOf('me1', R1, [b, r1])).toEqual({ fieldId: 'me1', cited: R1, origin: B, chain: [R1, B], byOthers: false, problem: null })
     expect(carriedFromOf(r3.index!, [b, r1])).toEqual([
-      { reportNumber: B, checks: 86, citedAs: [R1], problem: null },
-      { reportNumber: R1, checks: 8, citedAs: [], problem: null },
+      { reportNumber: B, checks: 86, citedAs: [R1], byOthers: false, problem: null },
+      { reportNumber: R1, checks: 8, citedAs: [], byOthers: false, problem: null },
     ])
 
     const before = runSupersedes(r3.index!, [b, r1])
@@ -187,6 +187,24 @@ describe('citations and older records', () => {
     expect(runSupersedes(run, [b]).lines.slice(-2)).toEqual([
       `2 checks cite ${B}, where they were not performed.`,
       '1 check carried over from MS-118, which is not an issued report of this equipment with this checklist here.',
+    ])
+  })
+
+  it('when a re-test carries over checks the cited report recorded as done by others, then that report is their record, not a broken citation', () => {
+    // The baseline's first start was made by the manufacturer's engineer (their record named); the re-test carries it over.
+    const byOthers = normalizeDisposition({ kind: 'by_others', by: 'Field engineer of the manufacturer', reference: 'FS-204', witnessed: true })
+    const baseIndex = checkIndexOf(countRunRecord({ definition, readings: Object.fromEntries([...STEPS.electrical, ...STEPS.mechanical, ...STEPS.controls].map((f) => [f, reading(f)])), steps: { running: { stepId: 'running', disposition: byOthers } } }))
+    expect(baseIndex.byOthers).toEqual(STEPS.running)
+    expect(baseIndex.performed).toHaveLength(87)
+    const b = issued(B, '2024-10-01T15:00:00Z', baseIndex)
+    const run = record({ read: STEPS.electrical, carry: { running: B, mechanical: B, controls: B } })
+    expect(originOf('run1', B, [b])).toMatchObject({ origin: B, byOthers: true, problem: null })
+    expect(runSupersedes(run, [b]).lines).toEqual([
+      'This run performs 29 of its 95 checks; the other 66 are carried over or set aside.',
+      `Accepting this run supersedes 29 of 87 checks of ${B}; the other 58 stay current there.`,
+      // In checklist order: the running checks come first.
+      `8 checks carried over from ${B}, where they were recorded as done by others.`,
+      `58 checks carried over from ${B}.`,
     ])
   })
 
