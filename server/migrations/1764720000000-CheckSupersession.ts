@@ -11,32 +11,40 @@ import { checkIndexOf, countRunRecord, parseRunSnapshot } from '../../shared/rec
  * report with no kept snapshot stays unindexed and is judged by the whole-report rule. Their `supersedes` stays null:
  * what they printed when issued is what they keep.
  */
+/**
+ * Fills `check_index` of every report that has none from its kept snapshot, 200 at a time; returns how many. Run by the
+ * owner with `report_frozen` disabled (ready reports refuse every other change).
+ */
+export async function indexReportsFromSnapshots(q: { query(sql: string, params?: unknown[]): Promise<unknown> }): Promise<number> {
+  let after = '00000000-0000-0000-0000-000000000000'
+  let indexed = 0
+  for (;;) {
+    const rows = (await q.query(
+      `SELECT r.id, s.content FROM report r JOIN run_snapshot s ON s.run_id = r.run_id AND s.sha256 = r.snapshot_sha256
+        WHERE r.check_index IS NULL AND r.id > $1 ORDER BY r.id LIMIT 200`,
+      [after],
+    )) as { id: string; content: string }[]
+    if (!rows.length) return indexed
+    for (const row of rows) {
+      const index = checkIndexOf(countRunRecord(parseRunSnapshot(row.content)))
+      await q.query(`UPDATE report SET check_index = $2 WHERE id = $1`, [row.id, JSON.stringify(index)])
+      indexed += 1
+    }
+    after = rows[rows.length - 1].id
+  }
+}
+
 export class CheckSupersession1764720000000 implements MigrationInterface {
   name = 'CheckSupersession1764720000000'
 
   async up(q: QueryRunner): Promise<void> {
     await q.query(`ALTER TABLE report ADD COLUMN check_index jsonb, ADD COLUMN supersedes jsonb`)
     await q.query(`ALTER TABLE report DISABLE TRIGGER report_frozen`)
-    let after = '00000000-0000-0000-0000-000000000000'
-    for (;;) {
-      const rows: { id: string; content: string }[] = await q.query(
-        `SELECT r.id, s.content FROM report r JOIN run_snapshot s ON s.run_id = r.run_id AND s.sha256 = r.snapshot_sha256
-          WHERE r.check_index IS NULL AND r.id > $1 ORDER BY r.id LIMIT 200`,
-        [after],
-      )
-      if (!rows.length) break
-      for (const row of rows) {
-        const index = checkIndexOf(countRunRecord(parseRunSnapshot(row.content)))
-        await q.query(`UPDATE report SET check_index = $2 WHERE id = $1`, [row.id, JSON.stringify(index)])
-      }
-      after = rows[rows.length - 1].id
-    }
+    await indexReportsFromSnapshots(q)
     await q.query(`ALTER TABLE report ENABLE TRIGGER report_frozen`)
   }
 
   async down(q: QueryRunner): Promise<void> {
-    await q.query(`ALTER TABLE report DISABLE TRIGGER report_frozen`)
     await q.query(`ALTER TABLE report DROP COLUMN supersedes, DROP COLUMN check_index`)
-    await q.query(`ALTER TABLE report ENABLE TRIGGER report_frozen`)
   }
 }

@@ -8,7 +8,7 @@ import { renderReportHtml } from '../../server/reports/render'
 import { buildReportView } from '../../server/reports/view-model'
 import type { RunReview } from '@shared/types/run'
 import { createTestContext, resetDatabase, type TestContext } from '../helpers/context'
-import { issueReport, makeSignable, readyRun, sign } from '../helpers/runs'
+import { fillRetest as fill, issueReport, makeSignable, readyRun, sign } from '../helpers/runs'
 import { binary } from '../helpers/zip'
 
 let ctx: TestContext
@@ -31,38 +31,9 @@ async function acceptAndIssue(s: Scenario, runId: string): Promise<{ pdf: Buffer
   return { pdf: res.body as Buffer, reportNumber }
 }
 
-type Definition = { sections: { steps: { id: string; safety?: boolean; fields: { id: string }[] }[] }[] }
-const change = (body: Record<string, unknown>, baseVersion = 0) => ({ changeId: randomUUID(), baseVersion, ...body })
-const carriedFrom = (reportNumber: string) => ({ kind: 'verified_earlier', reportNumber, reason: 'Checked then and unchanged since' })
 const yes = { value: true }
 const POWER = ['supplyMatchesNameplate', 'phaseRotation', 'terminationsChecked', 'controlPowerHealthy']
-
-/**
- * Fills a run as a re-test does: the pre-work safety items Yes, the named readings, whole steps or single checks carried
- * over ("verified earlier") from a report, and every other step not applicable.
- */
-async function fill(agent: Scenario['techAgent'], run: { id: string; definition: Definition }, plan: { read?: Record<string, unknown>; carrySteps?: Record<string, string>; carryFields?: Record<string, string> }) {
-  for (const step of run.definition.sections.flatMap((x) => x.steps)) {
-    if (step.safety) {
-      for (const f of step.fields) await agent.put(`/api/runs/${run.id}/readings/${f.id}`).send(change({ entry: yes })).expect(200)
-      continue
-    }
-    const from = plan.carrySteps?.[step.id]
-    if (from) {
-      await agent.put(`/api/runs/${run.id}/steps/${step.id}`).send(change({ disposition: carriedFrom(from) })).expect(200)
-      continue
-    }
-    const own = step.fields.filter((f) => plan.read?.[f.id] !== undefined || plan.carryFields?.[f.id])
-    if (!own.length) {
-      await agent.put(`/api/runs/${run.id}/steps/${step.id}`).send(change({ notApplicable: true, naReason: 'Not part of this re-test' })).expect(200)
-      continue
-    }
-    for (const f of own) {
-      const body = plan.carryFields?.[f.id] ? { disposition: carriedFrom(plan.carryFields[f.id]) } : { entry: plan.read![f.id] }
-      await agent.put(`/api/runs/${run.id}/readings/${f.id}`).send(change(body)).expect(200)
-    }
-  }
-}
+const change = (body: Record<string, unknown>, baseVersion = 0) => ({ changeId: randomUUID(), baseVersion, ...body })
 
 const check = (file: Buffer, name = 'report.pdf') => request(ctx.app).post('/api/verify').attach('file', file, { filename: name, contentType: 'application/pdf' })
 
