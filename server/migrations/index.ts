@@ -10,7 +10,7 @@ import { ArchiveQueryIndexes1764673200000 } from './1764673200000-ArchiveQueryIn
 import { SignedSnapshot1764680000000 } from './1764680000000-SignedSnapshot'
 import { EditVersions1764700000000 } from './1764700000000-EditVersions'
 import { Dispositions1764710000000 } from './1764710000000-Dispositions'
-import { CheckSupersession1764720000000 } from './1764720000000-CheckSupersession'
+import { CheckSupersession1764730000000 } from './1764730000000-CheckSupersession'
 
 /** Every migration in order. Listed by hand so tsx, Vitest and the CLI all load the same classes without a glob. */
 export const migrations = [
@@ -20,5 +20,5 @@ export const migrations = [
   SignedSnapshot1764680000000,
   EditVersions1764700000000,
   Dispositions1764710000000,
-  CheckSupersession1764720000000,
+  CheckSupersession1764730000000,
 ]

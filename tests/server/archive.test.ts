@@ -3,7 +3,7 @@ import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
 import type { ReportRenderer, ReportService } from '../../server/services/report.service'
 import type { ArchiveItem } from '@shared/types/archive'
 import type { SessionUser } from '@shared/types/api'
-import { indexReportsFromSnapshots } from '../../server/migrations/1764720000000-CheckSupersession'
+import { indexReportsFromSnapshots } from '../../server/migrations/1764730000000-CheckSupersession'
 import { asOwner, createTestContext, makeUser, resetDatabase, signedInAgent, type TestContext } from '../helpers/context'
 import { fillRetest, issueReport, makeSignable, readyRun } from '../helpers/runs'
 

@@ -34,8 +34,8 @@ export async function indexReportsFromSnapshots(q: { query(sql: string, params?:
   }
 }
 
-export class CheckSupersession1764720000000 implements MigrationInterface {
-  name = 'CheckSupersession1764720000000'
+export class CheckSupersession1764730000000 implements MigrationInterface {
+  name = 'CheckSupersession1764730000000'
 
   async up(q: QueryRunner): Promise<void> {
     await q.query(`ALTER TABLE report ADD COLUMN check_index jsonb, ADD COLUMN supersedes jsonb`)
