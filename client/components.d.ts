@@ -71,6 +71,7 @@ declare module 'vue' {
     RunFieldConflict: typeof import('./components/RunFieldConflict.vue')['default']
     RunFieldNumber: typeof import('./components/RunFieldNumber.vue')['default']
     RunFieldPhoto: typeof import('./components/RunFieldPhoto.vue')['default']
+    RunFieldPlausibility: typeof import('./components/RunFieldPlausibility.vue')['default']
     RunFieldRamp: typeof import('./components/RunFieldRamp.vue')['default']
     RunFieldStarterRamp: typeof import('./components/RunFieldStarterRamp.vue')['default']
     RunFieldText: typeof import('./components/RunFieldText.vue')['default']

@@ -1,4 +1,4 @@
-import { evaluateField, resolveRampRule, type FieldEvaluation } from '@shared/rules'
+import { conditionRuleWords, evaluateField, resolveRampRule, type FieldEvaluation } from '@shared/rules'
 import type { ChecklistDefinition, ChecklistField } from '@shared/schemas/checklist'
 import { DESIGN_POINT_QUANTITIES, type AnyDesignPoint, type DesignPoint, type DesignPointKey } from '@shared/schemas/design-point'
 import type { FieldEntry } from '@shared/schemas/reading'
@@ -158,6 +158,9 @@ export function describeRule(field: ChecklistField, ctx: PreviewContext): string
         if (r.warnFloor !== undefined) parts.push(`marginal below ${fmt(r.warnFloor)}`)
         return cap(parts.join('; ')) + '.'
       }
+      case 'design_reference':
+      case 'rated_at_load':
+        return `${cap(conditionRuleWords(rule))}.`
       default: {
         // The limits exactly as a run would use them: evaluate a stand-in reading of the same field.
         if (!field.quantity || !isUnitOf(field.quantity, field.unit)) return 'Needs a quantity and unit before the limits can be read.'

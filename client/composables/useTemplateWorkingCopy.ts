@@ -117,6 +117,10 @@ export function defaultRule(type: RuleType, previous?: FieldRule): FieldRule {
       return compact({ type, key, lowerPct: num('lowerPct') ?? 10, upperPct: num('upperPct') ?? 10, warnLowerPct: num('warnLowerPct'), warnUpperPct: num('warnUpperPct') })
     case 'design_offset':
       return compact({ type, key, lower: num('lower') ?? 1, upper: num('upper') ?? 1, warnLower: num('warnLower'), warnUpper: num('warnUpper') })
+    case 'design_reference':
+      return { type, key }
+    case 'rated_at_load':
+      return compact({ type, key, side: p.side === 'above' ? 'above' : 'below', loadField: typeof p.loadField === 'string' ? p.loadField : 'testLoad', warnSharePct: num('warnSharePct'), minLoadPct: num('minLoadPct') })
     case 'yes_no':
       return { type, expected: typeof p.expected === 'boolean' ? p.expected : true }
     case 'choice':

@@ -1,7 +1,7 @@
 import { defineStore } from 'pinia'
 import { computed, ref, shallowRef, watch } from 'vue'
 import { ValidationError } from 'yup'
-import { evaluateField, type FieldEvaluation } from '@shared/rules'
+import { evaluateField, physicalBoundsProblem, plausibilityQuestion, type FieldEvaluation, type PlausibilityQuestion } from '@shared/rules'
 import type { ChecklistField, ChecklistSection, ChecklistStep } from '@shared/schemas/checklist'
 import type { AnyDesignPoint } from '@shared/schemas/design-point'
 import { entrySchemaFor, type FieldEntry } from '@shared/schemas/reading'
@@ -56,6 +56,16 @@ export interface StepRef {
 
 export type SaveTone = 'saved' | 'saving' | 'offline' | 'problem' | 'readonly'
 
+/** A typed number far outside what the machine makes plausible: kept here, not saved, until the technician answers. */
+export interface HeldReading {
+  entry: FieldEntry
+  /** The text as typed ("368"), so the input shows it again and the question keeps its digits. */
+  typed: string
+  question: PlausibilityQuestion
+  /** The question is on screen (the technician left the input or pressed Enter). */
+  asking: boolean
+}
+
 /** "Ines Marlow has 2 changes to this run waiting on this device", for each person. */
 export function othersWaitingText(waiting: WaitingAuthor[]): string | null {
   if (!waiting.length) return null
@@ -100,6 +110,11 @@ export const useRunStore = defineStore('run', () => {
   const local = ref<Record<string, LocalReading>>({})
   const localSteps = ref<Record<string, LocalStep>>({})
   const fieldErrors = ref<Record<string, string>>({})
+  const held = ref<Record<string, HeldReading>>({})
+  /** Values the technician confirmed as typed after the plausibility question: not asked again. */
+  const confirmedAsTyped = ref<Record<string, string>>({})
+  /** What each field held when the technician started typing in it (see holdReading). */
+  let editStart: Record<string, LocalReading> = {}
   const stepErrors = ref<Record<string, string>>({})
   const loadError = ref<string | null>(null)
   const isLoading = ref(false)
@@ -173,11 +188,17 @@ export const useRunStore = defineStore('run', () => {
     const out: Record<string, FieldEntry | null> = {}
     for (const [id, { step }] of fieldIndex.value) {
       const w = working(id)
-      // Set aside (the field or its whole step): no value, as the server evaluates it.
-      out[id] = w.disposition || workingStep(step.id).disposition ? null : w.entry
+      // Set aside (the field or its whole step): no value, as the server evaluates it. A value refused (by the server or
+      // on this device) is not recorded, so nothing is computed from it either.
+      out[id] = w.disposition || workingStep(step.id).disposition || refusal(id) ? null : w.entry
     }
     return out
   })
+
+  /** Why this device's value for a field was refused (the server's 400 in the field's words, or the same check here). */
+  function refusal(fieldId: string): string | null {
+    return local.value[fieldId] ? (fieldErrors.value[fieldId] ?? null) : null
+  }
 
   /** Live verdicts from the shared engine on the working values; only what this device changed differs from the server's. */
   const liveEvaluations = computed(() => {
@@ -185,8 +206,14 @@ export const useRunStore = defineStore('run', () => {
     const def = definition.value
     if (!def || !run.value) return out
     const hasLocal = Object.keys(local.value).length > 0
-    const context = { definition: def, designPoint: run.value.designPoint as AnyDesignPoint, unitSystem: run.value.unitSystem, readings: workingEntries.value }
+    const context = { definition: def, designPoint: run.value.designPoint as AnyDesignPoint, unitSystem: run.value.unitSystem, siteBarometricKpa: run.value.siteBarometricKpa, readings: workingEntries.value }
     for (const [id, { field }] of fieldIndex.value) {
+      const refused = refusal(id)
+      if (refused) {
+        // No verdict for a value that was not taken: the refusal is what the field says.
+        out[id] = { fieldId: id, verdict: 'incomplete', message: refused, required: field.required !== false, computed: Boolean(field.computed), canonical: null, display: null, limits: null }
+        continue
+      }
       const stored = serverReading(id)?.evaluation
       if (stored && !local.value[id] && !(field.computed && hasLocal)) {
         out[id] = stored
@@ -322,6 +349,9 @@ export const useRunStore = defineStore('run', () => {
     local.value = {}
     localSteps.value = {}
     fieldErrors.value = {}
+    held.value = {}
+    confirmedAsTyped.value = {}
+    editStart = {}
     stepErrors.value = {}
     loadError.value = null
     fromDevice.value = false
@@ -417,29 +447,96 @@ export const useRunStore = defineStore('run', () => {
     if (r.disposition || r.entry === null) return null
     try {
       entrySchemaFor(field).validateSync(r.entry, { strict: true })
-      return null
     } catch (err) {
       if (ValidationError.isError(err)) return err.errors[0]?.replace(/^this\s*/, `${field.label} `) ?? err.message
       throw err
     }
+    // The server refuses what cannot be a measurement with the same words; saying it here works offline too.
+    return physicalBoundsProblem(field, r.entry)
   }
 
   /**
    * Records a change to a field: kept in the page at once (the live verdict follows), written to this device's
    * queue, and sent after typing settles. A value the field's own schema refuses stays in the page with the reason.
    */
-  async function setReading(fieldId: string, patch: Partial<LocalReading>, options: { typingProblem?: string | null } = {}) {
+  async function setReading(fieldId: string, patch: Partial<LocalReading>, options: { typingProblem?: string | null; keepHeld?: boolean } = {}) {
     const found = fieldIndex.value.get(fieldId)
     if (!found || !canEdit.value || !queue.value) return
     const next = readingContent({ ...working(fieldId), ...patch })
     local.value[fieldId] = next
     delete fieldErrors.value[fieldId]
+    // A new value or a disposition answers a held value; a justification typed meanwhile does not.
+    if (!options.keepHeld && ('entry' in patch || patch.disposition)) delete held.value[fieldId]
     const problem = options.typingProblem ?? validateReading(found.field, next)
     if (problem) {
       fieldErrors.value[fieldId] = problem
       return
     }
     await queue.value.enqueue('reading', fieldId, { ...next }, serverReading(fieldId)?.version ?? 0)
+  }
+
+  /**
+   * The plausibility question for a typed number (shared/rules/plausibility.ts), or null: none for a value already
+   * recorded on the server or confirmed as typed.
+   */
+  function plausibilityFor(fieldId: string, entry: FieldEntry | null, typed: string): PlausibilityQuestion | null {
+    const found = fieldIndex.value.get(fieldId)
+    if (!found || !entry || !run.value) return null
+    const key = canonicalJson(entry)
+    if (confirmedAsTyped.value[fieldId] === key) return null
+    const stored = serverReading(fieldId)?.entry
+    if (stored && canonicalJson(stored) === key) return null
+    return plausibilityQuestion(found.field, entry, { designPoint: run.value.designPoint as AnyDesignPoint }, typed)
+  }
+
+  /** The technician starts typing in a field: what it holds now is what it goes back to while a value is held. */
+  function beginEdit(fieldId: string) {
+    if (!held.value[fieldId]) editStart[fieldId] = { ...working(fieldId) }
+  }
+
+  /**
+   * Keeps an implausible typed number in the page without saving it; the question waits until typing is done. The
+   * keystrokes on the way to it were kept as they came ("36" on the way to "368"), so the field goes back to what it
+   * held before the typing began: no value nobody meant is recorded while the question is open.
+   */
+  async function holdReading(fieldId: string, entry: FieldEntry, typed: string, question: PlausibilityQuestion) {
+    if (!canEdit.value) return
+    const before = held.value[fieldId]
+    held.value[fieldId] = { entry, typed, question, asking: before?.asking ?? false }
+    delete fieldErrors.value[fieldId]
+    const start = editStart[fieldId]
+    if (start && canonicalJson(working(fieldId).entry) !== canonicalJson(start.entry)) {
+      await setReading(fieldId, { entry: start.entry }, { keepHeld: true })
+    }
+  }
+
+  /** Puts the question of a held value on screen (the technician left the input or pressed Enter). */
+  function askHeld(fieldId: string): boolean {
+    const h = held.value[fieldId]
+    if (!h) return false
+    h.asking = true
+    return true
+  }
+
+  /** The technician goes back to the input: the held value stays, the question goes until they are done again. */
+  function editHeld(fieldId: string) {
+    const h = held.value[fieldId]
+    if (h) h.asking = false
+  }
+
+  /** Forgets a held value: what is typed now is plausible (or empty) and takes its usual way. */
+  function releaseHeld(fieldId: string) {
+    delete held.value[fieldId]
+  }
+
+  /** The answer to the question: the suggested value, or the value as typed (then not asked about again). */
+  async function answerHeld(fieldId: string, answer: 'suggestion' | 'as_typed') {
+    const h = held.value[fieldId]
+    if (!h) return
+    const s = h.question.suggestion
+    const entry: FieldEntry = answer === 'suggestion' && s ? { value: s.value, unit: s.unit } : h.entry
+    if (answer === 'as_typed') confirmedAsTyped.value[fieldId] = canonicalJson(entry)
+    await setReading(fieldId, { entry })
   }
 
   async function setStep(stepId: string, patch: Partial<LocalStep>) {
@@ -538,6 +635,13 @@ export const useRunStore = defineStore('run', () => {
     if (status === 'signed_out') return { tone: 'problem', label: `Signed out — ${kept}; sign in again to send them`, detail: null }
     const conflicts = q?.conflicts.value.length ?? 0
     if (conflicts) return { tone: 'problem', label: `Not saved: ${conflicts} change${conflicts === 1 ? '' : 's'} also made by someone else`, detail: null }
+    // Held while still being typed is not a problem yet; once the question is on screen, nothing is saved until it is answered.
+    const waiting = Object.entries(held.value).filter(([, h]) => h.asking)
+    if (waiting.length) {
+      const [fieldId, h] = waiting[0]
+      const label = fieldIndex.value.get(fieldId)?.field.label ?? fieldId
+      return { tone: 'problem', label: `Not saved: ${label} ${h.question.entered.text} waits for your answer`, detail: waiting.length > 1 ? `${waiting.length} values wait for an answer` : null }
+    }
     const errors = [...Object.values(fieldErrors.value), ...Object.values(stepErrors.value)]
     if (errors.length) return { tone: 'problem', label: `Not saved: ${errors[0]}`, detail: errors.length > 1 ? `${errors.length} fields need attention` : null }
     if (n > 0 || status === 'sending' || status === 'waiting') return { tone: 'saving', label: 'Saving…', detail: null }
@@ -546,9 +650,9 @@ export const useRunStore = defineStore('run', () => {
   })
 
   return {
-    run, local, localSteps, fieldErrors, stepErrors, loadError, isLoading, fromDevice, storageProblem, queue,
+    run, local, localSteps, fieldErrors, stepErrors, held, loadError, isLoading, fromDevice, storageProblem, queue,
     definition, steps, fieldIndex, canEdit, liveEvaluations, overallProgress, saveState,
     working, workingStep, serverReading, stepProgress, liveCount, conflictFor, stepConflictFor, isAnswered,
-    open, close, refresh, setReading, setStep, keepTheirs, useMine, addPhoto, removePhoto, uploadFile, createFinding, updateFinding,
+    open, close, refresh, setReading, setStep, refusal, plausibilityFor, beginEdit, holdReading, askHeld, editHeld, releaseHeld, answerHeld, keepTheirs, useMine, addPhoto, removePhoto, uploadFile, createFinding, updateFinding,
   }
 })

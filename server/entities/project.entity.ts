@@ -38,6 +38,14 @@ export class Project {
   @Column({ type: 'text', array: true, name: 'distribution_list', default: () => "'{}'" })
   distributionList: string[]
 
+  /** Site elevation, metres above sea level: the standard atmosphere there is the site's barometric pressure. */
+  @Column({ type: 'double precision', name: 'site_elevation_m', nullable: true })
+  siteElevationM: number | null
+
+  /** The site's barometric pressure, kPa, when stated (it wins over the elevation). */
+  @Column({ type: 'double precision', name: 'barometric_kpa', nullable: true })
+  barometricKpa: number | null
+
   /** Paper size of this project's handover reports. */
   @Column({ type: 'text', name: 'report_paper', default: 'Letter' })
   reportPaper: 'A4' | 'Letter'

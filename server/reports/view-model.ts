@@ -1,13 +1,13 @@
 import { DEFER } from '@shared/library/cautions'
 import { acceptanceWords, byOthersOf, countRunRecord, describeDisposition, DISPOSITION_WORDS, exceptionsOf, OUTCOME_WORDS, performerStatement, SEVERITY_WORDS as SEVERITY_MEANINGS, type CheckOutcome, type CheckResult, type RecordException, type RunCount } from '@shared/record'
-import { classify, parseExpression, resolveRampRule, worstVerdict, type FieldEvaluation, type Verdict } from '@shared/rules'
-import { EngineeringError } from '@shared/engineering'
+import { classify, conditionRuleWords, parseExpression, resolveRampRule, worstVerdict, type FieldEvaluation, type Verdict } from '@shared/rules'
+import { EngineeringError, siteBarometric } from '@shared/engineering'
 import type { ChecklistField, ChecklistSection, ChecklistStep, RampRule } from '@shared/schemas/checklist'
 import { DESIGN_POINT_QUANTITIES, EQUIPMENT_KIND_LABELS, isDesignPointKey, isEquipmentKind, type AnyDesignPoint, type DesignPointKey } from '@shared/schemas/design-point'
 import type { SeriesEntry } from '@shared/schemas/reading'
 import type { ReportInput, SignatureRecord } from '@shared/types/report'
 import type { FindingSummary, RunReading } from '@shared/types/run'
-import { convert, convertDifference, displayUnit, distinguishingDecimals, formatNumber, formatQuantity, fromCanonical, unitLabel, unitSpec, type QuantityKind, type UnitSystem } from '@shared/units'
+import { convert, convertDifference, displayUnit, distinguishingDecimals, formatNumber, formatQuantity, fromCanonical, signedText, unitLabel, unitSpec, type QuantityKind, type UnitSystem } from '@shared/units'
 // The design-point rows the equipment pages show, in the project's units (pure functions; no Vue inside).
 import { designPointRows, designPointUnit } from '@shared/format/design-point'
 
@@ -198,6 +198,11 @@ export interface ReportView {
   missing: ProblemView[]
   openFindingCount: number
   designRows: DesignRowView[]
+  /**
+   * The conditions the running readings were taken under, in words, printed with the design table: the load, the
+   * capacity and condenser-water control, the site's atmosphere, and how water-side heat was worked out.
+   */
+  testConditions: string[]
   ramp: RampView | null
   timings: TimingRowView[]
   electrical: FieldRowView[]
@@ -288,6 +293,9 @@ function limitsInWords(field: ChecklistField, evaluation: FieldEvaluation | unde
     return `Acceptable: ${pass}${marginal}`
   }
   const limits = evaluation?.limits
+  if (rule.type === 'design_reference' || (rule.type === 'rated_at_load' && evaluation?.verdict === 'recorded')) {
+    return capitalise(`${conditionRuleWords(rule)}${limits?.basis ? ` (${limits.basis})` : ''}`)
+  }
   if (!limits) return evaluation?.problem ? evaluation.problem.message : '—'
   const kind = field.quantity as QuantityKind
   const from = limits.display.unit
@@ -325,8 +333,8 @@ function limitsInWords(field: ChecklistField, evaluation: FieldEvaluation | unde
     const designText = stored ? formatQuantity(fromCanonical(stored.value, unit, kind), unit, kind) : 'value missing'
     const sides =
       rule.type === 'design'
-        ? [rule.lowerPct === undefined ? null : `−${formatNumber(rule.lowerPct, 1)} %`, rule.upperPct === undefined ? null : `+${formatNumber(rule.upperPct, 1)} %`]
-        : [rule.lower === undefined ? null : `−${formatQuantity(convertDifference(rule.lower, fieldUnit, unit, kind), unit, kind)}`, rule.upper === undefined ? null : `+${formatQuantity(convertDifference(rule.upper, fieldUnit, unit, kind), unit, kind)}`]
+        ? [rule.lowerPct === undefined ? null : signedText(-rule.lowerPct, `${formatNumber(rule.lowerPct, 1)} %`), rule.upperPct === undefined ? null : signedText(rule.upperPct, `${formatNumber(rule.upperPct, 1)} %`)]
+        : [rule.lower === undefined ? null : signedText(-rule.lower, formatQuantity(convertDifference(rule.lower, fieldUnit, unit, kind), unit, kind)), rule.upper === undefined ? null : signedText(rule.upper, formatQuantity(convertDifference(rule.upper, fieldUnit, unit, kind), unit, kind))]
     basis = `design ${designText}${sides.some(Boolean) ? `, ${sides.filter(Boolean).join(' to ')}` : ''}`
   }
   return capitalise(`${parts.join('; ')}${basis ? ` (${basis})` : ''}`)
@@ -357,6 +365,8 @@ function valueText(field: ChecklistField, reading: RunReading | undefined, syste
     // Enough digits to justify the verdict at a boundary: 1.002 % against a 1 % warning level never prints as "1 %".
     const limits = evaluation.limits ? Object.entries(evaluation.limits.display).filter(([k, v]) => k !== 'unit' && typeof v === 'number').map(([, v]) => convert(v as number, evaluation.limits!.display.unit, unit, kind)) : []
     const extra = limits.length ? distinguishingDecimals(value, limits, unitSpec(kind, unit).decimals) : 0
+    // As it was typed (its digits, inches of vacuum), unless the boundary needs more digits than it carries.
+    if (unit === evaluation.display.unit && evaluation.display.text && extra === 0) return evaluation.display.text
     return formatQuantity(value, unit, kind, extra)
   }
   const answer = evaluation.answer
@@ -427,6 +437,48 @@ const HANDOVER_SECTION = 'handover'
 // Readings that relate to design values without an acceptance rule naming them (the starter template's ids).
 const RELATED_WITHOUT_RULE: Partial<Record<DesignPointKey, string[]>> = { inputPower: ['inputKw'] }
 
+/** The test conditions of the running readings, from the fields the checklist has and the site's atmosphere. */
+function testConditions(ctx: Context): string[] {
+  const out: string[] = []
+  const readings = ctx.input.run.readings
+  const answered = (id: string) => {
+    const place = ctx.fields.get(id)
+    const result = ctx.count.results.get(id)
+    if (!place || !result || result.disposition || result.outcome === null || result.outcome === 'incomplete') return null
+    return { field: place.field, reading: readings[id] }
+  }
+  const load = answered('testLoad')
+  const amps = answered('loadAmpsPct')
+  const loadWords = [load ? `${valueText(load.field, load.reading, ctx.system)} of design capacity` : null, amps ? `motor current ${valueText(amps.field, amps.reading, ctx.system)} of rated load amps` : null].filter(Boolean)
+  if (loadWords.length) out.push(`Load during the running readings: ${loadWords.join('; ')}.`)
+  for (const id of ['capacityControl', 'condenserControl']) {
+    const a = answered(id)
+    if (a) out.push(`${a.field.label}: ${lowerFirst(valueText(a.field, a.reading, ctx.system))}.`)
+  }
+  const hasGauge = [...ctx.fields.values()].some(({ field }) => field.computed && /saturation(TempF|PressurePsig)/.test(field.computed.expression))
+  if (hasGauge) {
+    const measured = [...ctx.fields.values()].find(({ field }) => field.siteBarometric)
+    const own = measured ? answered(measured.field.id) : null
+    const site = siteBarometric(ctx.input.project)
+    const kpa = (v: number) => `${formatNumber(v, 1)} kPa (${formatNumber(v / 3.386389, 2)} inHg)`
+    out.push(
+      own
+        ? `Gauge and vacuum pressures converted to absolute with the barometric pressure read on site, ${valueText(own.field, own.reading, ctx.system)}.`
+        : site.source === 'stated'
+          ? `Gauge and vacuum pressures converted to absolute with the project's site barometric pressure, ${kpa(site.kpa)}.`
+          : site.source === 'elevation'
+            ? `Gauge and vacuum pressures converted to absolute with the standard atmosphere at the site's ${formatNumber(ctx.input.project.siteElevationM as number, 0)} m elevation, ${kpa(site.kpa)}.`
+            : `Gauge and vacuum pressures converted to absolute with the standard sea-level atmosphere, ${kpa(site.kpa)}: no site elevation or barometric pressure was given.`,
+    )
+  }
+  const methods = [...ctx.fields.values()].map(({ field }) => field.computed?.expression ?? '')
+  if (methods.some((e) => e.includes('waterHeatTons') || e.includes('capacityKw'))) out.push('Water-side heat: flow × density × specific heat × temperature difference, with the properties of water at the mean water temperature (IAPWS-IF97).')
+  else if (methods.some((e) => e.includes('capacityTons'))) out.push('Water-side heat: the 500 rule, 500 × gpm × temperature difference (Btu/h), which fixes the properties of water near 60 °F.')
+  return out
+}
+
+const lowerFirst = (s: string) => (s ? s[0].toLowerCase() + s.slice(1) : s)
+
 function designRows(ctx: Context): DesignRowView[] {
   const { equipment } = ctx.input
   if (!isEquipmentKind(equipment.kind)) return []
@@ -437,7 +489,7 @@ function designRows(ctx: Context): DesignRowView[] {
     const related: ChecklistField[] = []
     for (const { field } of ctx.fields.values()) {
       const rule = field.rule
-      if (rule && (rule.type === 'design' || rule.type === 'design_offset') && rule.key === row.key && field.quantity === kind) related.push(field)
+      if (rule && (rule.type === 'design' || rule.type === 'design_offset' || rule.type === 'design_reference' || rule.type === 'rated_at_load') && rule.key === row.key && field.quantity === kind) related.push(field)
       else if (field.computed && designRefsOf(field).includes(row.key)) related.push(field)
     }
     for (const id of RELATED_WITHOUT_RULE[row.key] ?? []) {
@@ -770,6 +822,7 @@ export function buildReportView(input: ReportInput): ReportView {
     missing,
     openFindingCount: run.findings.filter((f) => f.status === 'open').length,
     designRows: designRows(ctx),
+    testConditions: testConditions(ctx),
     ramp,
     timings: timingRows(ctx, ramp),
     electrical: rows(ctx, ['voltsAB', 'voltsBC', 'voltsCA', 'voltageUnbalance', 'ampsA', 'ampsB', 'ampsC', 'currentUnbalance', 'inputKw']),

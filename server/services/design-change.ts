@@ -37,6 +37,8 @@ export const PROJECT_IDENTITY: Record<string, string> = {
   siteAddress: 'site address',
   unitSystem: 'unit system',
   timeZone: 'time zone',
+  siteElevationM: 'site elevation',
+  barometricKpa: 'site barometric pressure',
 }
 
 export type DesignChangeScope = { equipmentId: string } | { projectId: string }

@@ -19,9 +19,11 @@ const PROJECT_LABELS: Record<string, string> = {
   unitSystem: 'unit system',
   distributionList: 'distribution list',
   reportPaper: 'report paper',
+  siteElevationM: 'site elevation',
+  barometricKpa: 'site barometric pressure',
 }
 
-type ProjectFields = Pick<Project, 'code' | 'name' | 'siteName' | 'siteAddress' | 'timeZone' | 'unitSystem' | 'distributionList' | 'reportPaper'>
+type ProjectFields = Pick<Project, 'code' | 'name' | 'siteName' | 'siteAddress' | 'timeZone' | 'unitSystem' | 'distributionList' | 'reportPaper' | 'siteElevationM' | 'barometricKpa'>
 
 function snapshot(p: Project): ProjectFields {
   return {
@@ -33,6 +35,8 @@ function snapshot(p: Project): ProjectFields {
     unitSystem: p.unitSystem,
     distributionList: p.distributionList,
     reportPaper: p.reportPaper,
+    siteElevationM: p.siteElevationM ?? null,
+    barometricKpa: p.barometricKpa ?? null,
   }
 }
 

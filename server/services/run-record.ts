@@ -3,6 +3,7 @@ import { In, type EntityManager } from 'typeorm'
 import type { ChecklistDefinition } from '@shared/schemas/checklist'
 import type { FieldEntry } from '@shared/schemas/reading'
 import { buildRunSnapshot, canonicalSnapshot, countRun, dispositionOf, fieldPlaces, parseRunSnapshot, type RunCount, type RunSnapshot } from '@shared/record'
+import { siteBarometric } from '@shared/engineering'
 import { evaluateChecklist, type FieldEvaluation } from '@shared/rules'
 import type { AnyDesignPoint } from '@shared/schemas/design-point'
 import type { FindingSummary, RunAttachment as RunAttachmentView, RunReading, RunStepState } from '@shared/types/run'
@@ -16,7 +17,7 @@ import { ChecklistTemplate, Equipment, Finding, Organization, Project, Reading, 
 
 /** Evaluates every field of the definition from the stored entries (fields marked not applicable, or in a step marked so, count as empty). */
 export function evaluateAll(
-  ctx: { definition: ChecklistDefinition; equipment: Pick<Equipment, 'designPoint'>; project: Pick<Project, 'unitSystem'> },
+  ctx: { definition: ChecklistDefinition; equipment: Pick<Equipment, 'designPoint'>; project: Pick<Project, 'unitSystem'> & Partial<Pick<Project, 'siteElevationM' | 'barometricKpa'>> },
   readings: Pick<Reading, 'fieldId' | 'entry' | 'notApplicable'>[],
   naSteps: ReadonlySet<string>,
 ): Record<string, FieldEvaluation> {
@@ -30,6 +31,7 @@ export function evaluateAll(
     readings: entries,
     designPoint: ctx.equipment.designPoint as unknown as AnyDesignPoint,
     unitSystem: ctx.project.unitSystem,
+    siteBarometricKpa: siteBarometric(ctx.project).kpa,
   })
 }
 

@@ -1,3 +1,4 @@
+import { siteBarometric } from '@shared/engineering'
 import { isDeepStrictEqual } from 'node:util'
 import { DataSource, In, type EntityManager } from 'typeorm'
 import * as yup from 'yup'
@@ -255,6 +256,7 @@ export class RunService {
     return {
       ...summary,
       unitSystem: ctx.project.unitSystem,
+      siteBarometricKpa: siteBarometric(ctx.project).kpa,
       definition: ctx.definition,
       designPoint: ctx.equipment.designPoint,
       readings: Object.fromEntries(readings.map((r) => [r.fieldId, readingView(r, names)])),

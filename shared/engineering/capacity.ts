@@ -13,6 +13,22 @@ export function capacityTons(flowGpm: number, enteringF: number, leavingF: numbe
   return (500 * flowGpm * deltaF) / BTU_PER_HOUR_PER_TON
 }
 
+/** m³ per US gallon (NIST SP 811 (2008) App. B.8: 1 gal = 3.785 411 784 L). */
+const M3_PER_GALLON = 3.785411784e-3
+
+/**
+ * Water-side heat in tons from gpm and °F with the density and specific heat of water at the mean water temperature
+ * (IAPWS-IF97 at 1 atm; docs/REFERENCES.md §Water properties and water-side heat): V̇ · ρ · cp · ΔT. The "500 rule"
+ * of capacityTons fixes ρ·cp at about 60 °F water; at chilled-water temperatures this is about 0.3 % higher.
+ * Positive when `fromF` is warmer than `toF` (evaporator: entering, leaving; condenser: leaving, entering).
+ */
+export function waterHeatTons(flowGpm: number, fromF: number, toF: number): number {
+  requireNonNegative(flowGpm, 'flow')
+  const a = (requireFinite(fromF, 'entering temperature') - 32) / 1.8
+  const b = (requireFinite(toF, 'leaving temperature') - 32) / 1.8
+  return capacityKw((flowGpm * M3_PER_GALLON * 1000) / 60, a, b) / KW_PER_TON
+}
+
 /**
  * Water-side capacity in kW: V̇ × ρ × cp × (entering − leaving °C), with ρ and cp of water at 1 atm and the
  * mean temperature from IAPWS-IF97 (ρ at `meteredAtC` instead when the flow meter sits on one side).

@@ -1,3 +1,20 @@
+import type { QuantityKind } from '../units/quantities'
+
+/** A number an error is about, with what it measures and its unit, so a caller can print it in its own units. */
+export interface ErrorQuantity {
+  kind: QuantityKind
+  value: number
+  unit: string
+}
+
+/** The values a calculation accepts, as quantities (a table's coverage). */
+export interface ErrorRange {
+  kind: QuantityKind
+  min: number
+  max: number
+  unit: string
+}
+
 /** Why a calculation, conversion or rule refused its input. */
 export type EngineeringErrorCode =
   | 'NON_FINITE'

@@ -1,7 +1,8 @@
 export { EngineeringError, requireFinite, requireNonNegative, requirePositive } from './errors'
-export type { EngineeringErrorCode } from './errors'
+export type { EngineeringErrorCode, ErrorQuantity, ErrorRange } from './errors'
 export {
   capacityTons,
+  waterHeatTons,
   capacityKw,
   waterSideHeatKw,
   tonsToKw,
@@ -33,3 +34,4 @@ export {
 export type { Refrigerant, SaturationSide } from './refrigerant'
 export { waterPropertiesIF97, waterAtAtmosphere } from './water'
 export type { WaterProperties } from './water'
+export { STANDARD_ATMOSPHERE_KPA, BAROMETRIC_RANGE_KPA, ELEVATION_RANGE_M, barometricFromElevationKpa, requireBarometricKpa, siteBarometric } from './atmosphere'

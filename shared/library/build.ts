@@ -37,13 +37,16 @@ export function yesNo(id: string, label: string, extra: Extra & { expected?: boo
   return withExtra({ id, label, kind: 'yes_no', required: true, rule: { type: 'yes_no', expected: extra.expected ?? true } }, extra)
 }
 
-/** A choice among `choices` ([value, label]); `pass` choices pass, `marginal` ones are marginal, the rest fail. */
+/**
+ * A choice among `choices` ([value, label]); `pass` choices pass, `marginal` ones are marginal, the rest fail. With no
+ * `pass` choices the field has no criterion: its answer is recorded (a test condition, not a check).
+ */
 export function choice(id: string, label: string, choices: Array<[string, string]>, pass: string[], marginal: string[] = [], extra: Extra = {}): ChecklistField {
   return withExtra(
     {
       id, label, kind: 'choice', required: true,
       choices: choices.map(([value, text]) => ({ value, label: text })),
-      rule: { type: 'choice', pass, ...(marginal.length ? { marginal } : {}) },
+      ...(pass.length ? { rule: { type: 'choice' as const, pass, ...(marginal.length ? { marginal } : {}) } } : {}),
     },
     extra,
   )

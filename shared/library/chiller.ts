@@ -128,7 +128,7 @@ export const chillerStartupDefinition: ChecklistDefinition = {
         {
           id: 'prelube',
           title: 'Pre-lubrication and oil-pressure proving',
-          help: 'Start the timer with the oil pump start command. The drive may start only after oil pressure is proven and the proving hold has run.',
+          help: 'Capture the oil pressure from the oil pump start command and mark when the drive started: the pre-lubrication time is read from that mark (use the stopwatch only when there is no capture). The drive may start only after oil pressure is proven and the proving hold has run.',
           cautions: [NEVER_BYPASS, COUPLINGS],
           fields: [
             series('oilPressureRamp', 'Oil pressure from the oil pump start', 'pressure_differential', 'psid',
@@ -137,9 +137,12 @@ export const chillerStartupDefinition: ChecklistDefinition = {
             measured('oilPressureAtDriveStart', 'Oil pressure when the drive started', 'pressure_differential', 'psid', { type: 'design', key: 'oilPressureSetpoint', lowerPct: 0 }, {
               help: "At or above the oil pressure setpoint on the machine's design point: the drive must not start before oil pressure is proven.",
             }),
-            timer('prelubeTime', 'Pre-lubrication time: oil pump start to drive start', { type: 'range', min: 20, warnMax: 60, max: 120 }, {
-              help: 'Common practice: the oil pump runs first and the drive starts after pressure is proven and a hold of about 20 s. At least 20 s; above 60 s is marginal and above 120 s fails — a long wait points at a slow pressure rise.',
-            }),
+            {
+              ...timer('prelubeTime', 'Pre-lubrication time: oil pump start to drive start', { type: 'range', min: 20, warnMax: 60, max: 120 }, {
+                help: 'Common practice: the oil pump runs first and the drive starts after pressure is proven and a hold of about 20 s. At least 20 s; above 60 s is marginal and above 120 s fails — a long wait points at a slow pressure rise. When the oil-pressure capture marks the drive start, that time is used; the stopwatch is for a start without a capture.',
+              }),
+              fromDriveStart: 'oilPressureRamp',
+            },
           ],
         },
         {
@@ -159,6 +162,38 @@ export const chillerStartupDefinition: ChecklistDefinition = {
       id: 'running',
       title: 'Running checks',
       steps: [
+        {
+          id: 'test-conditions',
+          title: 'Test conditions',
+          help: 'Record these with the running readings: they say how far capacity and efficiency can be judged. A machine following a building load below design cannot show its design capacity; condenser water colder than design lowers kW/ton.',
+          fields: [
+            choice('capacityControl', 'Capacity control during the readings', [
+              ['full', 'At full capacity: guide vanes fully open, drive at maximum speed, or held at the current limit'],
+              ['following', 'Unloaded, following the building load'],
+              ['limited', 'Held below full capacity by a demand limit or a setpoint'],
+            ], [], [], { help: 'From the control panel. Capacity is judged against design only at full capacity; otherwise it is recorded with the load.' }),
+            choice('condenserControl', 'Condenser-water control during the readings', [
+              ['design', 'Tower controlling to the design entering temperature'],
+              ['colder', 'Tower delivering colder water than design (fans cycling, mild weather)'],
+              ['warmer', 'Tower fans at full speed, water warmer than design'],
+              ['bypass', 'Tower bypass valve modulating'],
+            ], [], [], { help: 'The condenser water follows the tower and the weather: its temperatures are recorded with their deviation from design, not judged as chiller faults.' }),
+            measured('loadAmpsPct', 'Motor current, % of rated load amps', 'percent', '%', undefined, {
+              required: false,
+              help: "As the control panel shows it, or the average phase current over the motor's rated load amps.",
+            }),
+            {
+              ...measured('barometricPressure', "Site barometric pressure today (if not the project's setting)", 'pressure_absolute', 'inHgAbs', undefined, {
+              required: false,
+              help: "Leave blank to use the project's site setting (from its elevation). Enter the station pressure at the site, not a sea-level weather figure; gauge and vacuum readings of this run are converted to absolute with it. Accepted 60–110 kPa (17.7–32.5 inHg).",
+            }),
+              siteBarometric: true,
+            },
+            computed('testLoad', 'Load during the readings, % of design capacity', 'percent', '%', '100 * capacity / design.capacity', undefined, {
+              help: 'Measured capacity over the design capacity. The AHRI 550/590 tolerance on capacity and efficiency is taken at this load (docs/REFERENCES.md, test conditions).',
+            }),
+          ],
+        },
         {
           id: 'motor-supply',
           title: 'Motor supply',
@@ -197,8 +232,8 @@ export const chillerStartupDefinition: ChecklistDefinition = {
           title: 'Evaporator',
           fields: [
             measured('chwEntering', 'Entering chilled-water temperature', 'temperature', 'degF',
-              { type: 'design_offset', key: 'evaporatorEnteringWaterTemp', lower: 2, upper: 2, warnLower: 1, warnUpper: 1 },
-              { help: 'Against design, at full load. Common practice: within ±2 °F, beyond ±1 °F marginal.' }),
+              { type: 'design_reference', key: 'evaporatorEnteringWaterTemp' },
+              { help: 'Set by the building load, not by the chiller: recorded with its deviation from the design point, not judged.' }),
             measured('chwLeaving', 'Leaving chilled-water temperature', 'temperature', 'degF',
               { type: 'design_offset', key: 'evaporatorLeavingWaterTemp', lower: 1, upper: 1, warnLower: 0.5, warnUpper: 0.5 },
               { help: 'Against design. Common practice: within ±1 °F, beyond ±0.5 °F marginal.' }),
@@ -214,9 +249,9 @@ export const chillerStartupDefinition: ChecklistDefinition = {
             computed('evapApproach', 'Evaporator approach', 'temperature_difference', 'deltaF', 'evaporatorApproachF(chwLeaving, evapSatTemp)', { type: 'range', min: 0, warnMax: 3, max: 5 }, {
               help: 'Leaving chilled water minus saturated evaporator temperature. Common practice for a new, clean machine at full load: about 0.5–3 °F; above 3 °F is marginal, above 5 °F fails (fouling or low charge); below zero means a reading is wrong.',
             }),
-            computed('capacity', 'Cooling capacity', 'cooling_capacity', 'TR', 'capacityTons(chwFlow, chwEntering, chwLeaving)',
-              { type: 'design', key: 'capacity', lowerPct: 5, warnLowerPct: 2.5 },
-              { help: '500 × gpm × (entering − leaving) / 12 000 (ASHRAE Handbook—Fundamentals), judged at full load. Up to 5 % short passes, a practitioner’s default modelled on the AHRI 550/590 full-load tolerance at a 10 °F range (confirm it against the edition your contract names); more than 2.5 % short is marginal (common practice). Field instruments are not a rating test: a shortfall is a reason to look.' }),
+            computed('capacity', 'Cooling capacity', 'cooling_capacity', 'TR', 'waterHeatTons(chwFlow, chwEntering, chwLeaving)',
+              { type: 'rated_at_load', key: 'capacity', side: 'below', loadField: 'testLoad', onlyWhen: { field: 'capacityControl', values: ['full'] } },
+              { help: 'Flow × density × specific heat × (entering − leaving), with the properties of water at the mean water temperature (IAPWS-IF97). Judged only when the machine was at full capacity: not more than the AHRI 550/590 tolerance at the measured load short of design (5 % at full load with a 10 °F range; wider at part load); more than half of it short is marginal (common practice). Field instruments are not a rating test: a shortfall is a reason to look. Confirm the tolerance against the edition your contract names.' }),
           ],
         },
         {
@@ -224,11 +259,11 @@ export const chillerStartupDefinition: ChecklistDefinition = {
           title: 'Condenser',
           fields: [
             measured('cwEntering', 'Entering condenser-water temperature', 'temperature', 'degF',
-              { type: 'design_offset', key: 'condenserEnteringWaterTemp', lower: 10, upper: 2, warnLower: 5, warnUpper: 1 },
-              { help: "Colder than design helps down to the machine's minimum; warmer costs capacity and kW/ton. Common practice: up to 2 °F above design (above 1 °F marginal), down to 10 °F below (below 5 °F marginal)." }),
+              { type: 'design_reference', key: 'condenserEnteringWaterTemp' },
+              { help: "Set by the tower and the weather, not by the chiller: recorded with its deviation from the design point. Colder than design helps down to the machine's minimum entering temperature (manufacturer's figure); warmer costs capacity and kW/ton." }),
             measured('cwLeaving', 'Leaving condenser-water temperature', 'temperature', 'degF',
-              { type: 'design_offset', key: 'condenserLeavingWaterTemp', lower: 2, upper: 2, warnLower: 1, warnUpper: 1 },
-              { help: 'Against design, at full load. Common practice: within ±2 °F, beyond ±1 °F marginal.' }),
+              { type: 'design_reference', key: 'condenserLeavingWaterTemp' },
+              { help: 'Entering condenser water plus the rise the load and the flow make: recorded with its deviation from the design point, not judged.' }),
             measured('cwFlow', 'Condenser-water flow', 'volumetric_flow', 'gpm',
               { type: 'design', key: 'condenserWaterFlow', lowerPct: 10, upperPct: 10, warnLowerPct: 5, warnUpperPct: 5 },
               { help: 'Common practice: within ±10 % of design, beyond ±5 % marginal.' }),
@@ -239,8 +274,8 @@ export const chillerStartupDefinition: ChecklistDefinition = {
             computed('condApproach', 'Condenser approach', 'temperature_difference', 'deltaF', 'condenserApproachF(cwLeaving, condSatTemp)', { type: 'range', min: 0, warnMax: 3, max: 5 }, {
               help: 'Saturated condensing temperature minus leaving condenser water. Common practice for a new, clean machine at full load: about 0.5–3 °F; above 3 °F is marginal, above 5 °F fails (fouling or non-condensables); below zero means a reading is wrong.',
             }),
-            computed('condenserHeat', 'Heat rejected in the condenser', 'cooling_capacity', 'TR', 'capacityTons(cwFlow, cwLeaving, cwEntering)', undefined, {
-              help: '500 × gpm × (leaving − entering) / 12 000; used by the heat balance.',
+            computed('condenserHeat', 'Heat rejected in the condenser', 'cooling_capacity', 'TR', 'waterHeatTons(cwFlow, cwLeaving, cwEntering)', undefined, {
+              help: 'Flow × density × specific heat × (leaving − entering), with the properties of water at the mean water temperature (IAPWS-IF97); used by the heat balance.',
             }),
           ],
         },
@@ -248,9 +283,9 @@ export const chillerStartupDefinition: ChecklistDefinition = {
           id: 'performance',
           title: 'Efficiency and heat balance',
           fields: [
-            computed('specificPower', 'Efficiency (kW/ton)', 'specific_power', 'kWPerTon', 'kwPerTon(inputKw, capacity)',
-              { type: 'design', key: 'designKwPerTon', upperPct: 5, warnUpperPct: 2.5 },
-              { help: 'Input kW over capacity in tons, against the design kW/ton. Up to 5 % above design passes, a practitioner’s default modelled on the AHRI 550/590 full-load tolerance (confirm it against the edition your contract names); more than 2.5 % above is marginal (common practice).' }),
+            computed('specificPower', 'Efficiency', 'specific_power', 'kWPerTon', 'kwPerTon(inputKw, capacity)',
+              { type: 'rated_at_load', key: 'designKwPerTon', side: 'above', loadField: 'testLoad', minLoadPct: 75 },
+              { help: 'Input kW over capacity in tons (kW/ton); SI projects read it as COP, cooling kW over input kW. Not more than the AHRI 550/590 tolerance at the measured load above the design kW/ton (in COP: not below the design COP divided by one plus the tolerance); more than half of it is marginal (common practice). Below 75 % load it is recorded, not judged: compare it with the manufacturer’s part-load rating. Confirm the tolerance against the edition your contract names.' }),
             computed('heatBalance', 'Heat balance', 'percent', '%', 'heatBalancePct(tonsToKw(capacity), tonsToKw(condenserHeat), inputKw)',
               { type: 'range', min: -5, max: 5, warnMin: -3, warnMax: 3 },
               { help: '((evaporator heat + input power) − condenser heat) / condenser heat. Within ±5 % (a practitioner’s default modelled on AHRI 550/590; confirm it against the edition your contract names); beyond ±3 % is marginal (common practice). A larger imbalance means a flow or temperature reading is wrong: check them before believing capacity or kW/ton.' }),

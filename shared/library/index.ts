@@ -33,7 +33,7 @@ export const STARTER_LIBRARY: StarterTemplate[] = [
       'First version: limits that depend on the machine come from its design point; the other limits are common-practice defaults, stated in each field’s help.',
     revision: 2,
     revisionNote:
-      'Dispositions instead of one "not applicable": not applicable, done by others, verified earlier, deferred, not done. The pre-work safety step cannot be set aside and a "No" there stops the run. Values without an acceptance criterion are recorded, not passed.',
+      'Dispositions instead of one "not applicable": not applicable, done by others, verified earlier, deferred, not done. The pre-work safety step cannot be set aside and a "No" there stops the run. Values without an acceptance criterion are recorded, not passed. A test-conditions step (capacity control, condenser-water control, load, site barometric pressure); capacity and efficiency judged with the AHRI 550/590 tolerance at the measured load; building- and tower-driven water temperatures recorded with their deviation from design; water-side heat from the properties of water; the oil-pressure ramp follows the machine’s own setpoint.',
     definition: chillerStartupDefinition,
   },
   {

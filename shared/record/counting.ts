@@ -54,7 +54,8 @@ export const OUTCOME_WORDS: Record<CheckOutcome, string> = {
 /** Whether a field has an acceptance criterion: a rule to judge it by (free text and photos never have one). */
 export function hasCriterion(field: ChecklistField): boolean {
   if (field.kind === 'text' || field.kind === 'photo') return false
-  return field.rule !== undefined && field.rule !== null
+  // Recorded against a design value (building- or tower-driven readings) is a reference, not a criterion.
+  return field.rule !== undefined && field.rule !== null && field.rule.type !== 'design_reference'
 }
 
 /** The little of a reading that counting needs. */

@@ -3,6 +3,7 @@ import type { ChecklistDefinition } from '../schemas/checklist'
 import type { RecordEquipment, RecordProject, RecordRun } from '../types/record'
 import type { SignatureRecord } from '../types/signature'
 import type { FindingSummary, RunAttachment, RunDetail, RunReading, RunState, RunStepState } from '../types/run'
+import { siteBarometric } from '../engineering/atmosphere'
 import { countRunRecord } from './counting'
 import { dispositionOf } from './disposition'
 
@@ -47,7 +48,7 @@ export interface SnapshotParts {
 
 const pick = <T extends object, K extends keyof T>(o: T, keys: readonly K[]): Pick<T, K> => Object.fromEntries(keys.map((k) => [k, o[k]])) as Pick<T, K>
 
-const PROJECT_KEYS = ['id', 'code', 'name', 'organizationName', 'siteName', 'siteAddress', 'timeZone', 'unitSystem', 'reportPaper'] as const
+const PROJECT_KEYS = ['id', 'code', 'name', 'organizationName', 'siteName', 'siteAddress', 'timeZone', 'unitSystem', 'reportPaper', 'siteElevationM', 'barometricKpa'] as const
 const EQUIPMENT_KEYS = ['id', 'projectId', 'tag', 'kind', 'location', 'manufacturer', 'model', 'serialNumber', 'yearBuilt', 'refrigerant', 'designPoint'] as const
 const RUN_KEYS = ['id', 'projectId', 'equipmentId', 'templateId', 'templateName', 'templateVersionId', 'templateVersionNumber', 'startedAt', 'startedByName'] as const
 const READING_KEYS = ['fieldId', 'entry', 'disposition', 'notApplicable', 'naReason', 'justification', 'evaluation', 'version', 'updatedAt', 'updatedByName'] as const
@@ -142,6 +143,7 @@ export function runDetailFromSnapshot(s: RunSnapshot, live: { state: RunState; v
     progress: countRunRecord({ definition: s.definition, readings, steps }).totals,
     openFindings: s.findings.filter((f) => f.status === 'open').length,
     unitSystem: s.project.unitSystem,
+    siteBarometricKpa: siteBarometric(s.project).kpa,
     definition: s.definition,
     designPoint: s.equipment.designPoint,
     readings,

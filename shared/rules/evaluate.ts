@@ -1,20 +1,25 @@
+import { requireBarometricKpa } from '../engineering/atmosphere'
+import { ahriTolerancePct } from '../engineering/efficiency'
 import { EngineeringError, type EngineeringErrorCode } from '../engineering/errors'
-import type { ChecklistDefinition, ChecklistField, FieldRule, RampRule } from '../schemas/checklist'
+import type { ChecklistDefinition, ChecklistField, FieldRule, RampRule, RatedAtLoadRule } from '../schemas/checklist'
 import { DESIGN_POINT_QUANTITIES, isDesignPointKey, type AnyDesignPoint, type DesignPointKey } from '../schemas/design-point'
 import type { FieldEntry, SeriesEntry } from '../schemas/reading'
-import { distinguishingDecimals, formatNumber } from '../units/format'
+import { distinguishingDecimals, enteredDecimals, formatNumber, signedText } from '../units/format'
 import {
   canonicalUnit,
   convert,
   convertDifference,
   displayUnit,
+  isReciprocalUnit,
   isUnitOf,
   toCanonical,
+  unitLabel,
   unitSpec,
   type QuantityKind,
   type UnitSystem,
 } from '../units/quantities'
 import { parseExpression } from './expression'
+import { problemInProjectUnits } from './problem-units'
 import { judgeRamp, type RampJudgement } from './series'
 import { classify, type LimitSet, type Verdict } from './verdict'
 
@@ -27,6 +32,11 @@ export interface EvaluationContext {
   unitSystem: UnitSystem
   /** The checklist the field belongs to (needed by computed fields to find the fields they read). */
   definition?: ChecklistDefinition
+  /**
+   * The site's barometric pressure, kPa (the project's setting): gauge pressures are read against it. A reading of the
+   * run's `siteBarometric` field overrides it; without either, the standard sea-level atmosphere.
+   */
+  siteBarometricKpa?: number | null
 }
 
 export interface LimitsUsed {
@@ -56,11 +66,15 @@ export interface FieldEvaluation {
   series?: RampJudgement & { unit: string }
   /** Why a value could not be judged (missing design value, a calculation that refused its inputs). */
   problem?: { code: EngineeringErrorCode; message: string }
+  /** Set when a timer's value was taken from a capture's drive start rather than its own entry: the capture's label. */
+  takenFrom?: string
 }
 
 interface ResolvedRule {
   limits: LimitSet
   basis?: string
+  /** Set when the rule says this value is recorded, not judged, and why ("at 62 % load: …"). */
+  notJudged?: string
 }
 
 const fieldIndexCache = new WeakMap<ChecklistDefinition, Map<string, ChecklistField>>()
@@ -131,7 +145,7 @@ function resolveRule(rule: FieldRule, field: ChecklistField, context: Evaluation
     case 'design': {
       const d = designValue(context, rule.key as DesignPointKey, unit, kind)
       const at = (pct: number | undefined, sign: -1 | 1) => (pct === undefined ? undefined : d + (sign * Math.abs(d) * pct) / 100)
-      const parts = [rule.lowerPct === undefined ? null : `−${formatNumber(rule.lowerPct, 1)} %`, rule.upperPct === undefined ? null : `+${formatNumber(rule.upperPct, 1)} %`]
+      const parts = [rule.lowerPct === undefined ? null : signedText(-rule.lowerPct, `${formatNumber(rule.lowerPct, 1)} %`), rule.upperPct === undefined ? null : signedText(rule.upperPct, `${formatNumber(rule.upperPct, 1)} %`)]
       return {
         limits: { min: at(rule.lowerPct, -1), max: at(rule.upperPct, 1), warnMin: at(rule.warnLowerPct, -1), warnMax: at(rule.warnUpperPct, 1) },
         basis: `design ${abs(d)}${describeSides(parts)}`,
@@ -140,16 +154,74 @@ function resolveRule(rule: FieldRule, field: ChecklistField, context: Evaluation
     case 'design_offset': {
       const d = designValue(context, rule.key as DesignPointKey, unit, kind)
       const at = (offset: number | undefined, sign: -1 | 1) => (offset === undefined ? undefined : d + sign * offset)
-      const parts = [rule.lower === undefined ? null : `−${diff(rule.lower)}`, rule.upper === undefined ? null : `+${diff(rule.upper)}`]
+      const parts = [rule.lower === undefined ? null : signedText(-rule.lower, diff(rule.lower)), rule.upper === undefined ? null : signedText(rule.upper, diff(rule.upper))]
       return {
         limits: { min: at(rule.lower, -1), max: at(rule.upper, 1), warnMin: at(rule.warnLower, -1), warnMax: at(rule.warnUpper, 1) },
         basis: `design ${abs(d)}${describeSides(parts)}`,
       }
     }
+    case 'design_reference': {
+      const d = designValue(context, rule.key as DesignPointKey, unit, kind)
+      return { limits: {}, basis: `design ${abs(d)}`, notJudged: '' }
+    }
+    case 'rated_at_load':
+      return resolveRatedAtLoad(rule, field, context, shown)
     default:
       throw new EngineeringError('INVALID_ENTRY', `Rule ${rule.type} does not apply to a ${field.kind} field`, { fieldId: field.id })
   }
 }
+
+/**
+ * A rated quantity at the measured load: the AHRI 550/590 tolerance at that load (ahriTolerancePct, the design range
+ * from the design entering and leaving chilled water) applied below or above the design value; recorded instead when
+ * the test conditions say the value cannot be judged (docs/REFERENCES.md §Test conditions and rating tolerances).
+ */
+function resolveRatedAtLoad(rule: RatedAtLoadRule, field: ChecklistField, context: EvaluationContext, shown: string): ResolvedRule {
+  const { kind, unit } = quantityOf(field)
+  const abs = (v: number) => fmtIn(convert(v, unit, shown, kind), shown, kind)
+  const d = designValue(context, rule.key as DesignPointKey, unit, kind)
+  const index = context.definition ? fieldIndex(context.definition) : new Map<string, ChecklistField>()
+  if (rule.onlyWhen) {
+    const condition = index.get(rule.onlyWhen.field)
+    const answer = (context.readings?.[rule.onlyWhen.field] as { value?: unknown } | null | undefined)?.value
+    if (answer === undefined || answer === null || answer === '') {
+      throw new EngineeringError('MISSING_CONTEXT', `it needs ${condition?.label.toLowerCase() ?? rule.onlyWhen.field} in the test conditions`, { field: rule.onlyWhen.field })
+    }
+    if (!rule.onlyWhen.values.includes(String(answer))) {
+      const words = condition?.choices?.find((c) => c.value === answer)?.label ?? String(answer)
+      return { limits: {}, basis: `design ${abs(d)}`, notJudged: `not judged: ${lowerFirst(words)}` }
+    }
+  }
+  const loadField = index.get(rule.loadField)
+  if (!loadField) throw new EngineeringError('MISSING_CONTEXT', `the load field ${rule.loadField} is not in the checklist`, { field: rule.loadField })
+  const load = loadField.computed ? computeValue(loadField, context, []) : (() => {
+    const entry = context.readings?.[rule.loadField]
+    return isEmpty(entry) ? { missing: [loadField.label] } : { value: numberEntry(loadField, entry as FieldEntry).value }
+  })()
+  if ('missing' in load) throw new EngineeringError('MISSING_CONTEXT', `it needs ${joinLabels(load.missing)}`, { field: rule.loadField })
+  if ('error' in load) throw load.error
+  const loadPct = load.value
+  const loadText = `${formatNumber(loadPct, 0)} % load`
+  if (rule.minLoadPct !== undefined && loadPct < rule.minLoadPct) {
+    return { limits: {}, basis: `design ${abs(d)}`, notJudged: `not judged at ${loadText}: below ${formatNumber(rule.minLoadPct, 0)} % compare it with the manufacturer's part-load rating` }
+  }
+  const entering = designValue(context, 'evaporatorEnteringWaterTemp', 'degF', 'temperature')
+  const leaving = designValue(context, 'evaporatorLeavingWaterTemp', 'degF', 'temperature')
+  const tolerance = ahriTolerancePct(Math.min(Math.max(loadPct, 1), 100), entering - leaving)
+  const warn = (tolerance * (rule.warnSharePct ?? 50)) / 100
+  const sign = rule.side === 'below' ? -1 : 1
+  const at = (pct: number) => d + (sign * Math.abs(d) * pct) / 100
+  const limits: LimitSet = rule.side === 'below' ? { min: at(tolerance), warnMin: at(warn) } : { max: at(tolerance), warnMax: at(warn) }
+  const ahri = `the AHRI 550/590 tolerance at ${loadText}`
+  return {
+    limits,
+    basis: isReciprocalUnit(kind, shown)
+      ? `design ${abs(d)}, not below design ÷ ${formatNumber(1 + tolerance / 100, 3)}: ${ahri} is ${formatNumber(tolerance, 1)} % on ${unitLabel(kind, unit)}`
+      : `design ${abs(d)}, ${sign < 0 ? '−' : '+'}${formatNumber(tolerance, 1)} %: ${ahri}`,
+  }
+}
+
+const lowerFirst = (s: string) => (s ? s[0].toLowerCase() + s.slice(1) : s)
 
 function describeSides(parts: Array<string | null>): string {
   const [low, high] = parts
@@ -159,20 +231,28 @@ function describeSides(parts: Array<string | null>): string {
   return ''
 }
 
+const SWAPPED = { min: 'max', max: 'min', warnMin: 'warnMax', warnMax: 'warnMin' } as const
+
+function swapSides(limits: LimitSet): LimitSet {
+  const out: LimitSet = {}
+  for (const k of ['min', 'max', 'warnMin', 'warnMax'] as const) if (limits[k] !== undefined) out[SWAPPED[k]] = limits[k]
+  return out
+}
+
 function mapLimits(limits: LimitSet, f: (v: number) => number): LimitSet {
   const out: LimitSet = {}
   for (const k of ['min', 'max', 'warnMin', 'warnMax'] as const) if (limits[k] !== undefined) out[k] = f(limits[k] as number)
   return out
 }
 
-function numericMessage(label: string, value: number, limits: LimitSet, unit: string, kind: QuantityKind, verdict: ReturnType<typeof classify>, basis?: string): string {
+function numericMessage(label: string, value: number, limits: LimitSet, unit: string, kind: QuantityKind, verdict: ReturnType<typeof classify>, basis?: string, typedExtra = 0): string {
   const base = unitSpec(kind, unit).decimals
   const present = Object.values(limits).filter((v): v is number => v !== undefined)
   const extra = distinguishingDecimals(value, present, base)
   const q = (v: number) => fmtIn(v, unit, kind, extra)
   const n = (v: number) => formatNumber(v, base + extra)
+  const v = fmtIn(value, unit, kind, Math.max(extra, typedExtra))
   const tail = basis ? ` (${basis})` : ''
-  const v = q(value)
   switch (verdict.breached) {
     case 'min':
       return `${label} ${v} is below the minimum ${q(limits.min as number)}${tail}`
@@ -268,11 +348,28 @@ function computeValue(field: ChecklistField, context: EvaluationContext, trail: 
     if (q) design[key] = convert(q.value, q.unit, displayUnit(DESIGN_POINT_QUANTITIES[key], system), DESIGN_POINT_QUANTITIES[key])
   }
   try {
-    return { value: parsed.evaluate(values, design) }
+    return { value: parsed.evaluate(values, design, { atmosphereKpa: siteAtmosphereKpa(context) }) }
   } catch (err) {
     if (err instanceof EngineeringError) return { error: err }
     throw err
   }
+}
+
+/**
+ * The atmosphere the run's gauge pressures are read against, kPa: the run's own barometric reading (a field marked
+ * `siteBarometric`), else the project's site value, else undefined (the standard sea-level atmosphere).
+ */
+export function siteAtmosphereKpa(context: Pick<EvaluationContext, 'definition' | 'readings' | 'siteBarometricKpa'>): number | undefined {
+  if (context.definition) {
+    for (const f of fieldIndex(context.definition).values()) {
+      if (!f.siteBarometric) continue
+      const entry = context.readings?.[f.id]
+      if (isEmpty(entry)) break
+      const e = numberEntry(f, entry as FieldEntry)
+      return requireBarometricKpa(convert(e.value, e.unit, 'kPaa', 'pressure_absolute'))
+    }
+  }
+  return typeof context.siteBarometricKpa === 'number' ? context.siteBarometricKpa : undefined
 }
 
 function joinLabels(labels: string[]): string {
@@ -291,23 +388,66 @@ export function judgedUnit(field: ChecklistField, context: Pick<EvaluationContex
   return context.unitSystem === templateSystem ? unit : displayUnit(kind, context.unitSystem)
 }
 
+/** ", +1.2 °F" or ", −3.4 %": how far a recorded value lies from the design value of its rule, in the shown unit. */
+function deviationWords(field: ChecklistField, valueInFieldUnit: number, context: EvaluationContext, shown: string): string {
+  const rule = field.rule
+  if (!rule || (rule.type !== 'design_reference' && rule.type !== 'rated_at_load')) return ''
+  const { kind, unit } = quantityOf(field)
+  const d = designValue(context, rule.key as DesignPointKey, unit, kind)
+  const sign = (v: number) => (v > 0 ? '+' : '')
+  if (kind === 'temperature') {
+    const diffKind = 'temperature_difference'
+    const diffUnit = shown === 'degC' ? 'K' : shown === 'K' ? 'K' : 'deltaF'
+    const delta = convertDifference(valueInFieldUnit - d, unit === 'degC' ? 'K' : unit === 'K' ? 'K' : 'deltaF', diffUnit, diffKind)
+    return `, ${sign(delta)}${fmtIn(delta, diffUnit, diffKind)}`
+  }
+  if (d === 0) return ''
+  const pct = ((valueInFieldUnit - d) / Math.abs(d)) * 100
+  return `, ${sign(pct)}${formatNumber(pct, 1)} %`
+}
+
+/** The drive start marked in the capture a timer takes its value from (`fromDriveStart`), when it has one. */
+function driveStartOf(field: ChecklistField, context: EvaluationContext): { seconds: number; label: string } | null {
+  if (field.kind !== 'timer' || !field.fromDriveStart || !context.definition) return null
+  const source = fieldIndex(context.definition).get(field.fromDriveStart)
+  const entry = context.readings?.[field.fromDriveStart] as SeriesEntry | null | undefined
+  const s = entry?.driveStartS
+  if (!source || typeof s !== 'number' || !Number.isFinite(s) || s < 0) return null
+  return { seconds: s, label: source.label }
+}
+
 function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefined, context: EvaluationContext): FieldEvaluation {
   const { kind, unit } = quantityOf(field)
   const computed = Boolean(field.computed)
   let valueInFieldUnit: number
+  let takenFrom: string | undefined
+  let typed: { value: number; unit: string } | null = null
   if (computed) {
     const result = computeValue(field, context, [])
     if ('missing' in result) return incomplete(field, true, `${field.label} cannot be computed until ${joinLabels(result.missing)} ${result.missing.length > 1 ? 'are' : 'is'} recorded`)
-    if ('error' in result) return incomplete(field, true, `${field.label} cannot be computed: ${result.error.message}`, result.error)
+    if ('error' in result) {
+      const problem = problemInProjectUnits(result.error, context.unitSystem)
+      return incomplete(field, true, `${field.label} cannot be computed: ${problem.message}`, problem)
+    }
     valueInFieldUnit = result.value
   } else {
-    if (isEmpty(entry)) return incomplete(field, false, notRecorded(field))
-    const e = numberEntry(field, entry as FieldEntry)
-    valueInFieldUnit = convert(e.value, e.unit, unit, kind)
+    const fromCapture = driveStartOf(field, context)
+    if (fromCapture) {
+      valueInFieldUnit = convert(fromCapture.seconds, 's', unit, kind)
+      takenFrom = fromCapture.label
+    } else {
+      if (isEmpty(entry)) return incomplete(field, false, notRecorded(field))
+      const e = numberEntry(field, entry as FieldEntry)
+      valueInFieldUnit = convert(e.value, e.unit, unit, kind)
+      typed = e
+    }
   }
-  const shown = judgedUnit(field, context)
+  // A vacuum typed in inches of mercury on an I-P gauge field reads back in inches of mercury vacuum, not as −psig.
+  const shown = kind === 'pressure_gauge' && typed?.unit === 'inHgVac' && judgedUnit(field, context) === 'psig' ? 'inHgVac' : judgedUnit(field, context)
   const canonicalValue = toCanonical(valueInFieldUnit, unit, kind)
-  const displayValue = convert(valueInFieldUnit, unit, shown, kind)
+  const displayValue = typed && typed.unit === shown ? typed.value : convert(valueInFieldUnit, unit, shown, kind)
+  // The digits it was typed with: 12.59 stays 12.59, 146.5 kPa stays 146.5 kPa (when it is shown in the unit typed).
+  const typedExtra = typed && typed.unit === shown ? Math.min(4, Math.max(0, enteredDecimals(typed.value) - unitSpec(kind, shown).decimals)) : 0
   const base: FieldEvaluation = {
     fieldId: field.id,
     verdict: 'pass',
@@ -315,26 +455,41 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
     required: field.required !== false,
     computed,
     canonical: { value: canonicalValue, unit: canonicalUnit(kind) },
-    display: { value: displayValue, unit: shown, text: fmtIn(displayValue, shown, kind) },
+    display: { value: displayValue, unit: shown, text: fmtIn(displayValue, shown, kind, typedExtra) },
     limits: null,
+    ...(takenFrom ? { takenFrom } : {}),
   }
   if (!field.rule) return { ...base, verdict: 'recorded', message: `${field.label} ${base.display!.text} recorded` }
   let resolved: ResolvedRule
   try {
     resolved = resolveRule(field.rule, field, context, shown)
   } catch (err) {
-    if (err instanceof EngineeringError && err.code === 'MISSING_DESIGN_VALUE') {
+    if (err instanceof EngineeringError && (err.code === 'MISSING_DESIGN_VALUE' || (field.rule.type === 'rated_at_load' && err.code !== 'INVALID_ENTRY'))) {
       return { ...base, verdict: 'incomplete', message: `${field.label} ${base.display!.text} cannot be judged: ${err.message}`, problem: { code: err.code, message: err.message } }
     }
     throw err
   }
+  if (resolved.notJudged !== undefined) {
+    // Recorded, not judged: the design value and the deviation from it are kept for the reader.
+    const reference = resolved.basis ? ` (${resolved.basis}${deviationWords(field, valueInFieldUnit, context, shown)})` : ''
+    return {
+      ...base,
+      verdict: 'recorded',
+      message: `${field.label} ${base.display!.text} recorded${reference}${resolved.notJudged ? `; ${resolved.notJudged}` : ''}`,
+      limits: { display: { unit: shown }, canonical: { unit: canonicalUnit(kind) }, ...(resolved.basis ? { basis: resolved.basis } : {}) },
+    }
+  }
   const canonicalLimits = mapLimits(resolved.limits, (v) => toCanonical(v, unit, kind))
-  const displayLimits = mapLimits(resolved.limits, (v) => convert(v, unit, shown, kind))
-  const c = classify(canonicalValue, canonicalLimits)
+  // A unit that runs the other way (COP against kW/ton, inches of vacuum against gauge pressure): limits swap sides.
+  const reciprocal = isReciprocalUnit(kind, shown) || unitSpec(kind, shown).sign === -1
+  // In a reciprocal unit (COP from kW/ton) a maximum becomes a minimum: limits and the breached side swap.
+  const displayLimits = reciprocal ? swapSides(mapLimits(resolved.limits, (v) => convert(v, unit, shown, kind))) : mapLimits(resolved.limits, (v) => convert(v, unit, shown, kind))
+  const judged = classify(canonicalValue, canonicalLimits)
+  const c = reciprocal && judged.breached ? { ...judged, breached: SWAPPED[judged.breached] } : judged
   return {
     ...base,
     verdict: c.verdict,
-    message: numericMessage(field.label, displayValue, displayLimits, shown, kind, c, resolved.basis),
+    message: `${numericMessage(field.label, displayValue, displayLimits, shown, kind, c, resolved.basis, typedExtra)}${takenFrom ? `; taken from the drive start marked on ${lowerFirst(takenFrom)}` : ''}`,
     limits: {
       display: { ...displayLimits, unit: shown },
       canonical: { ...canonicalLimits, unit: canonicalUnit(kind) },

@@ -3,6 +3,7 @@ import {
   capacityKw,
   capacityTons,
   heatBalancePct,
+  waterHeatTons,
   kwToTons,
   tonsToKw,
   waterSideHeatKw,
@@ -17,14 +18,21 @@ import {
   saturationPressurePsig,
   saturationTempC,
   saturationTempF,
+  type SaturationSide,
 } from '../engineering/refrigerant'
 import { math } from '../units/math'
 
 type ExpressionFunction = (...args: never[]) => number
 
+/** What an expression needs to know about the site: the atmosphere gauge pressures are read against, kPa. */
+export interface ExpressionSite {
+  atmosphereKpa?: number
+}
+
 /** Functions a computed field's expression may call: the engineering calculations and a few plain ones. */
 export const EXPRESSION_FUNCTIONS: Readonly<Record<string, ExpressionFunction>> = {
   capacityTons,
+  waterHeatTons,
   capacityKw,
   waterSideHeatKw,
   tonsToKw,
@@ -61,7 +69,8 @@ export interface ParsedExpression {
   /** Design-point keys the expression reads through `design.key`. */
   designRefs: string[]
   /** The result for these field values and design-point values; throws on a non-finite result. */
-  evaluate(fields: Readonly<Record<string, number>>, design: Readonly<Record<string, number | string>>): number
+  /** `site.atmosphereKpa` is the atmosphere gauge pressures are read against (standard sea level when absent). */
+  evaluate(fields: Readonly<Record<string, number>>, design: Readonly<Record<string, number | string>>, site?: ExpressionSite): number
 }
 
 function invalid(source: string, why: string): EngineeringError {
@@ -140,8 +149,14 @@ export function parseExpression(source: string): ParsedExpression {
     source,
     fieldRefs,
     designRefs,
-    evaluate(fields, design) {
+    evaluate(fields, design, site) {
       const scope = new Map<string, unknown>(Object.entries(EXPRESSION_FUNCTIONS))
+      if (site?.atmosphereKpa !== undefined) {
+        // Gauge readings are relative to the site's atmosphere, not to sea level.
+        const atm = site.atmosphereKpa
+        scope.set('saturationTempF', (r: string, p: number, side: SaturationSide = 'dew') => saturationTempF(r, p, side, atm))
+        scope.set('saturationPressurePsig', (r: string, t: number, side: SaturationSide = 'dew') => saturationPressurePsig(r, t, side, atm))
+      }
       for (const ref of fieldRefs) {
         if (!Object.hasOwn(fields, ref)) throw new EngineeringError('MISSING_CONTEXT', `Expression "${source}" needs field ${ref}`, { field: ref })
         scope.set(ref, fields[ref])

@@ -1,3 +1,4 @@
+import { BAROMETRIC_RANGE_KPA } from '../engineering/atmosphere'
 import type { ChecklistField } from '../schemas/checklist'
 import type { FieldEntry } from '../schemas/reading'
 import { formatQuantity } from '../units/format'
@@ -34,6 +35,9 @@ export function physicalBoundsProblem(field: ChecklistField, entry: FieldEntry |
     const shown = formatQuantity(value, e.unit, kind)
     if (CANNOT_BE_NEGATIVE.includes(kind) && si < 0) return `${field.label} ${shown} cannot be negative`
     if (kind === 'pressure_gauge' && si < FULL_VACUUM_GAUGE_PA) return `${field.label} ${shown} is below a perfect vacuum`
+    if (field.siteBarometric && (si < BAROMETRIC_RANGE_KPA.min * 1000 || si > BAROMETRIC_RANGE_KPA.max * 1000)) {
+      return `${field.label} ${shown} is outside ${BAROMETRIC_RANGE_KPA.min}–${BAROMETRIC_RANGE_KPA.max} kPa (17.7–32.5 inHg), the barometric pressure of any inhabited site`
+    }
     if (kind === 'temperature') {
       if (si <= ABSOLUTE_ZERO_MARGIN_K) return `${field.label} ${shown} is below absolute zero`
       if (si < PLAUSIBLE_K.min || si > PLAUSIBLE_K.max) return `${field.label} ${shown} is outside −40 °C to 150 °C (−40 °F to 302 °F), beyond anything measured on this plant`

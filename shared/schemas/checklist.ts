@@ -7,12 +7,12 @@ import { DESIGN_POINT_KEYS, DESIGN_POINT_QUANTITIES, finiteNumber, isDesignPoint
 export const FIELD_KINDS = ['number', 'yes_no', 'choice', 'text', 'timer', 'time_series', 'photo'] as const
 export type FieldKind = (typeof FIELD_KINDS)[number]
 
-export const RULE_TYPES = ['range', 'nominal', 'nominal_pct', 'design', 'design_offset', 'yes_no', 'choice', 'ramp'] as const
+export const RULE_TYPES = ['range', 'nominal', 'nominal_pct', 'design', 'design_offset', 'design_reference', 'rated_at_load', 'yes_no', 'choice', 'ramp'] as const
 export type RuleType = (typeof RULE_TYPES)[number]
 
 /** Which rule types each field kind accepts. */
 export const RULES_FOR_KIND: Readonly<Record<FieldKind, readonly RuleType[]>> = {
-  number: ['range', 'nominal', 'nominal_pct', 'design', 'design_offset'],
+  number: ['range', 'nominal', 'nominal_pct', 'design', 'design_offset', 'design_reference', 'rated_at_load'],
   timer: ['range', 'nominal', 'nominal_pct', 'design', 'design_offset'],
   yes_no: ['yes_no'],
   choice: ['choice'],
@@ -145,6 +145,38 @@ export const designOffsetRuleSchema = object({
     return designBandCheck(this, r, 'lower', 'upper')
   })
 
+/**
+ * No acceptance limit: the value is recorded with its deviation from the design value, for readings the building or
+ * the tower sets rather than the machine (entering chilled water, condenser water).
+ */
+export const designReferenceRuleSchema = object({
+  type: ruleType('design_reference'),
+  key: designKey(),
+}).exact('${path} has unknown keys: ${properties}')
+
+/**
+ * A rated quantity (capacity, kW/ton) judged against its design value with the AHRI 550/590 test tolerance at the
+ * load measured in `loadField` (percent of design capacity): `side` below (capacity must not fall short) or above
+ * (kW/ton must not exceed). Marginal beyond `warnSharePct` percent of the tolerance. With `onlyWhen`, judged only
+ * when that choice field holds one of `values` (e.g. the machine was at full capacity), else recorded; below
+ * `minLoadPct` recorded. The full-load range ΔT comes from the design entering and leaving chilled water.
+ */
+export const ratedAtLoadRuleSchema = object({
+  type: ruleType('rated_at_load'),
+  key: designKey(),
+  side: string().required('${path} is required').oneOf(['below', 'above'], '${path} must be below or above'),
+  loadField: string().required('${path} is required').matches(FIELD_ID, '${path} must be a field id'),
+  warnSharePct: positive().max(100, '${path} must be at most 100').optional(),
+  minLoadPct: positive().max(100, '${path} must be at most 100').optional(),
+  onlyWhen: object({
+    field: string().required('${path} is required').matches(FIELD_ID, '${path} must be a field id'),
+    values: array(string().required()).required('${path} is required').min(1, '${path} needs at least one value'),
+  })
+    .exact('${path} has unknown keys: ${properties}')
+    .default(undefined)
+    .optional(),
+}).exact('${path} has unknown keys: ${properties}')
+
 /** A yes/no answer that must equal `expected`. */
 export const yesNoRuleSchema = object({
   type: ruleType('yes_no'),
@@ -201,10 +233,12 @@ export type NominalRule = InferType<typeof nominalRuleSchema> & { type: 'nominal
 export type NominalPctRule = InferType<typeof nominalPctRuleSchema> & { type: 'nominal_pct' }
 export type DesignRule = InferType<typeof designRuleSchema> & { type: 'design' }
 export type DesignOffsetRule = InferType<typeof designOffsetRuleSchema> & { type: 'design_offset' }
+export type DesignReferenceRule = InferType<typeof designReferenceRuleSchema> & { type: 'design_reference' }
+export type RatedAtLoadRule = InferType<typeof ratedAtLoadRuleSchema> & { type: 'rated_at_load'; side: 'below' | 'above' }
 export type YesNoRule = InferType<typeof yesNoRuleSchema> & { type: 'yes_no' }
 export type ChoiceRule = InferType<typeof choiceRuleSchema> & { type: 'choice' }
 export type RampRule = InferType<typeof rampRuleSchema> & { type: 'ramp' }
-export type FieldRule = RangeRule | NominalRule | NominalPctRule | DesignRule | DesignOffsetRule | YesNoRule | ChoiceRule | RampRule
+export type FieldRule = RangeRule | NominalRule | NominalPctRule | DesignRule | DesignOffsetRule | DesignReferenceRule | RatedAtLoadRule | YesNoRule | ChoiceRule | RampRule
 
 const RULE_SCHEMAS = {
   range: rangeRuleSchema,
@@ -212,6 +246,8 @@ const RULE_SCHEMAS = {
   nominal_pct: nominalPctRuleSchema,
   design: designRuleSchema,
   design_offset: designOffsetRuleSchema,
+  design_reference: designReferenceRuleSchema,
+  rated_at_load: ratedAtLoadRuleSchema,
   yes_no: yesNoRuleSchema,
   choice: choiceRuleSchema,
   ramp: rampRuleSchema,
@@ -248,6 +284,13 @@ export const fieldSchema = object({
   required: boolean().default(true),
   choices: array(object({ value: string().required('${path} is required'), label: text().required('${path} is required') })).optional(),
   rule: fieldRuleSchema,
+  /** This reading is the site's barometric pressure on the day: the run's gauge pressures are read against it. */
+  siteBarometric: boolean().optional(),
+  /**
+   * A timer whose value is the drive start marked in that time-series capture (seconds from its start) when the
+   * capture has one; the timer's own entry is the fallback. One timing, one place.
+   */
+  fromDriveStart: string().optional(),
   computed: object({ expression: string().required('${path} is required') })
     .exact('${path} has unknown keys: ${properties}')
     .default(undefined)
@@ -269,6 +312,8 @@ interface FieldLike {
   choices?: Array<{ value: string; label: string }>
   computed?: { expression: string }
   rule?: FieldRule
+  siteBarometric?: boolean
+  fromDriveStart?: string
 }
 interface DefinitionLike {
   sections: Array<{ id: string; steps: Array<{ id: string; fields: FieldLike[] }> }>
@@ -308,6 +353,9 @@ function fieldIssues(p: string, f: FieldLike): Issue[] {
       }
     }
   }
+  if (f.siteBarometric && (f.kind !== 'number' || f.quantity !== 'pressure_absolute' || f.computed)) {
+    issues.push({ path: `${p}.siteBarometric`, message: `${p}.siteBarometric is only for an entered absolute-pressure number field` })
+  }
   const rule = f.rule as FieldRule | undefined
   if (rule && typeof rule === 'object' && (RULE_TYPES as readonly string[]).includes(rule.type)) {
     if (!RULES_FOR_KIND[f.kind].includes(rule.type)) {
@@ -316,7 +364,7 @@ function fieldIssues(p: string, f: FieldLike): Issue[] {
     } else if (f.quantity === 'temperature' && (rule.type === 'nominal_pct' || rule.type === 'design')) {
       issues.push({ path: `${p}.rule.type`, message: `${p}.rule.type ${rule.type}: a percent of a temperature scale means nothing; use nominal or design_offset` })
     }
-    if ((rule.type === 'design' || rule.type === 'design_offset') && isDesignPointKey(rule.key) && f.quantity && DESIGN_POINT_QUANTITIES[rule.key] !== f.quantity) {
+    if ((rule.type === 'design' || rule.type === 'design_offset' || rule.type === 'design_reference' || rule.type === 'rated_at_load') && isDesignPointKey(rule.key) && f.quantity && DESIGN_POINT_QUANTITIES[rule.key] !== f.quantity) {
       issues.push({ path: `${p}.rule.key`, message: `${p}.rule.key ${rule.key} is a ${DESIGN_POINT_QUANTITIES[rule.key]} value but the field measures ${f.quantity}` })
     }
     if (rule.type === 'choice' && f.choices) {
@@ -401,6 +449,29 @@ function crossReferenceIssues(def: DefinitionLike): Issue[] {
   fields.forEach(({ field, path }) => note(field.id, `${path}.id`, 'field'))
 
   const byId = new Map(fields.map((f) => [f.field.id, f]))
+  for (const { field, path } of fields) {
+    const rule = field.rule
+    if (rule?.type !== 'rated_at_load') continue
+    const load = byId.get(rule.loadField)
+    if (!load || load.field.kind !== 'number' || load.field.id === field.id) issues.push({ path: `${path}.rule.loadField`, message: `${path}.rule.loadField "${rule.loadField}" must be another number field (the load in percent)` })
+    else if (load.field.quantity !== 'percent') issues.push({ path: `${path}.rule.loadField`, message: `${path}.rule.loadField "${rule.loadField}" must measure percent` })
+    if (rule.onlyWhen) {
+      const cond = byId.get(rule.onlyWhen.field)
+      if (!cond || cond.field.kind !== 'choice') issues.push({ path: `${path}.rule.onlyWhen.field`, message: `${path}.rule.onlyWhen.field "${rule.onlyWhen.field}" must be a choice field` })
+      else {
+        const values = new Set((cond.field.choices ?? []).map((c) => c.value))
+        rule.onlyWhen.values.forEach((v, i) => {
+          if (!values.has(v)) issues.push({ path: `${path}.rule.onlyWhen.values[${i}]`, message: `${path}.rule.onlyWhen.values[${i}] "${v}" is not a choice of ${rule.onlyWhen!.field}` })
+        })
+      }
+    }
+  }
+  for (const { field, path } of fields) {
+    if (field.fromDriveStart === undefined) continue
+    const source = byId.get(field.fromDriveStart)
+    if (field.kind !== 'timer') issues.push({ path: `${path}.fromDriveStart`, message: `${path}.fromDriveStart is only for timer fields` })
+    else if (!source || source.field.kind !== 'time_series') issues.push({ path: `${path}.fromDriveStart`, message: `${path}.fromDriveStart "${field.fromDriveStart}" must be a time-series field` })
+  }
   const dependsOn = new Map<string, string[]>()
   for (const { field, path } of fields) {
     const expression = field.computed?.expression

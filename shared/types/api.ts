@@ -42,6 +42,10 @@ export interface ProjectSummary {
   distributionList: string[]
   /** Paper size of the handover reports. */
   reportPaper: 'A4' | 'Letter'
+  /** Site elevation in metres, or null: the standard atmosphere there converts gauge and vacuum readings. */
+  siteElevationM: number | null
+  /** The site's barometric pressure in kPa when stated (wins over the elevation), or null. */
+  barometricKpa: number | null
   /** When the project was closed (ISO), or null while open. A closed project starts no new runs; its reports stay readable. */
   closedAt: string | null
   memberCount: number

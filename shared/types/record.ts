@@ -2,7 +2,7 @@
 import type { EquipmentSummary, ProjectSummary } from './api'
 
 /** The project as the record names it: identity, site, units, time zone and report paper, and the firm's name. */
-export type RecordProject = Pick<ProjectSummary, 'id' | 'code' | 'name' | 'siteName' | 'siteAddress' | 'timeZone' | 'unitSystem' | 'reportPaper'> & {
+export type RecordProject = Pick<ProjectSummary, 'id' | 'code' | 'name' | 'siteName' | 'siteAddress' | 'timeZone' | 'unitSystem' | 'reportPaper'> & Partial<Pick<ProjectSummary, 'siteElevationM' | 'barometricKpa'>> & {
   organizationName: string
 }
 

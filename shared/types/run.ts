@@ -118,6 +118,8 @@ export interface RunAttachment extends AttachmentSummary {
 
 export interface RunDetail extends RunSummary {
   unitSystem: 'IP' | 'SI'
+  /** The site's barometric pressure, kPa, from the project (stated, or from its elevation, else sea level): gauge readings are read against it. */
+  siteBarometricKpa: number
   definition: ChecklistDefinition
   /** The equipment's design point in canonical SI (`{ value, unit }`), as `evaluateField` takes it. */
   designPoint: Record<string, unknown>

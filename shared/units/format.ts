@@ -16,6 +16,20 @@ export function formatNumber(value: number, decimals: number): string {
   return trimmed.startsWith('-') ? `${MINUS}${trimmed.slice(1)}` : trimmed
 }
 
+/** A signed offset in words: "+5 %", "−10 %", and plain "0 %" for zero (never "−0 %"); `text` is the magnitude. */
+export function signedText(value: number, text: string): string {
+  return value > 0 ? `+${text}` : value < 0 ? `${MINUS}${text}` : text
+}
+
+/** The decimal places a typed number carries (12.59 → 2, 146.5 → 1, 36 → 0), at most 6. */
+export function enteredDecimals(value: number): number {
+  if (!Number.isFinite(value)) return 0
+  const text = String(Math.abs(value))
+  if (text.includes('e')) return 6
+  const dot = text.indexOf('.')
+  return dot < 0 ? 0 : Math.min(6, text.length - dot - 1)
+}
+
 /** "18 psid", "44.5 °F", "501.5 tons": the value in `unit` rounded to that unit's usual precision. */
 export function formatQuantity(value: number, unit: string, kind: QuantityKind, extraDecimals = 0): string {
   const spec = unitSpec(kind, unit)

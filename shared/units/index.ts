@@ -17,7 +17,8 @@ export {
   fromCanonical,
   gaugeToAbsolute,
   absoluteToGauge,
+  isReciprocalUnit,
   quantityToCanonical,
 } from './quantities'
 export type { QuantityKind, UnitSystem, UnitSpec, Quantity } from './quantities'
-export { formatNumber, formatQuantity, distinguishingDecimals } from './format'
+export { formatNumber, formatQuantity, distinguishingDecimals, enteredDecimals, signedText } from './format'

@@ -1,4 +1,4 @@
-import { EngineeringError, requireFinite } from '../engineering/errors'
+import { EngineeringError, requireFinite, requirePositive } from '../engineering/errors'
 import { math } from './math'
 
 export const QUANTITY_KINDS = [
@@ -39,6 +39,8 @@ export interface UnitSpec {
   mathUnit: string | null
   /** -1 for a unit that counts downwards from its zero (inches of mercury vacuum). */
   sign?: -1
+  /** The reciprocal of the kind's canonical unit (COP = 1 / (kW/kW)): a maximum in kW/ton is a minimum in it. */
+  reciprocal?: true
 }
 
 interface KindSpec {
@@ -135,10 +137,12 @@ const KINDS: Record<QuantityKind, KindSpec> = {
     ],
   },
   specific_power: {
-    label: 'specific power', ip: 'kWPerTon', si: 'kWPerKW', canonical: 'kWPerKW',
+    // SI readers state a chiller's efficiency as COP, cooling out over power in (kW/kW), the reciprocal of specific power.
+    label: 'specific power', ip: 'kWPerTon', si: 'COP', canonical: 'kWPerKW',
     units: [
       u('specific_power', 'kWPerTon', 'kW/ton', 'kW/TR', 3),
-      u('specific_power', 'kWPerKW', 'kW/kW', 'kW/kW', 3),
+      u('specific_power', 'kWPerKW', 'kW/kW input per kW cooling', 'kW/kW', 3),
+      { id: 'COP', kind: 'specific_power', label: 'COP', mathUnit: null, decimals: 2, reciprocal: true },
     ],
   },
   efficiency: {
@@ -245,6 +249,11 @@ export function convert(value: number, from: string, to: string, kind: QuantityK
   const source = unitSpec(kind, from)
   const target = unitSpec(kind, to)
   if (source.id === target.id) return value
+  if (source.reciprocal || target.reciprocal) {
+    const canonical = canonicalUnit(kind)
+    const inCanonical = source.reciprocal ? 1 / requirePositive(value, source.label) : convert(value, from, canonical, kind)
+    return target.reciprocal ? 1 / requirePositive(inCanonical, unitSpec(kind, canonical).label) : convert(inCanonical, canonical, to, kind)
+  }
   const signed = value * (source.sign ?? 1)
   let result: number
   if (source.mathUnit === target.mathUnit || source.mathUnit === null || target.mathUnit === null) result = signed
@@ -252,9 +261,15 @@ export function convert(value: number, from: string, to: string, kind: QuantityK
   return result * (target.sign ?? 1)
 }
 
+/** True when `unit` is the reciprocal of its kind's canonical unit (COP): limits swap sides when shown in it. */
+export function isReciprocalUnit(kind: QuantityKind, unit: string): boolean {
+  return unitSpec(kind, unit).reciprocal === true
+}
+
 /** A difference (tolerance, band, offset) of `value` in `from` converted to `to`: scale only, no offset. */
 export function convertDifference(value: number, from: string, to: string, kind: QuantityKind): number {
   requireFinite(value, 'value')
+  if (isReciprocalUnit(kind, from) || isReciprocalUnit(kind, to)) throw new EngineeringError('UNIT_MISMATCH', `A difference cannot be converted between ${unitLabel(kind, from)} and ${unitLabel(kind, to)}`, { kind, from, to })
   return convert(value, from, to, kind) - convert(0, from, to, kind)
 }
 
@@ -271,15 +286,15 @@ export function fromCanonical(value: number, unit: string, kind: QuantityKind): 
 /** Standard atmosphere, 101 325 Pa = 14.696 psia (NIST SP 811 (2008) App. B.8); the zero of gauge pressure. */
 export const STANDARD_ATMOSPHERE_PA = 101325
 
-/** Gauge pressure in `gaugeUnit` as absolute pressure in `absoluteUnit`, referred to the standard atmosphere. */
-export function gaugeToAbsolute(value: number, gaugeUnit: string, absoluteUnit: string): number {
-  const pa = toCanonical(value, gaugeUnit, 'pressure_gauge') + STANDARD_ATMOSPHERE_PA
+/** Gauge pressure in `gaugeUnit` as absolute pressure in `absoluteUnit`, referred to the site's atmosphere (standard by default). */
+export function gaugeToAbsolute(value: number, gaugeUnit: string, absoluteUnit: string, atmospherePa = STANDARD_ATMOSPHERE_PA): number {
+  const pa = toCanonical(value, gaugeUnit, 'pressure_gauge') + atmospherePa
   return fromCanonical(pa, absoluteUnit, 'pressure_absolute')
 }
 
 /** Absolute pressure in `absoluteUnit` as gauge pressure in `gaugeUnit` (negative below atmospheric). */
-export function absoluteToGauge(value: number, absoluteUnit: string, gaugeUnit: string): number {
-  const pa = toCanonical(value, absoluteUnit, 'pressure_absolute') - STANDARD_ATMOSPHERE_PA
+export function absoluteToGauge(value: number, absoluteUnit: string, gaugeUnit: string, atmospherePa = STANDARD_ATMOSPHERE_PA): number {
+  const pa = toCanonical(value, absoluteUnit, 'pressure_absolute') - atmospherePa
   return fromCanonical(pa, gaugeUnit, 'pressure_gauge')
 }
 

@@ -12,7 +12,7 @@ const project: ProjectSummary = {
   timeZone: 'America/Chicago',
   unitSystem: 'IP',
   distributionList: [],
-  reportPaper: 'Letter',
+  reportPaper: 'Letter', siteElevationM: null, barometricKpa: null,
   memberCount: 4,
   equipmentCount: 2,
   closedAt: null,

@@ -38,7 +38,7 @@ function runDetail(): RunDetail {
     templateId: 't', templateName: 'Water-cooled centrifugal chiller start-up', templateVersionNumber: 1, state: 'in_progress', version: 1,
     startedAt: '2026-12-01T09:00:00.000Z', startedByName: 'Rafe Okafor', updatedAt: '2026-12-01T09:00:00.000Z',
     progress: { ...emptyProgress(), checks: 74, judged: 74, required: 74, incomplete: 74 },
-    openFindings: 0, unitSystem: 'IP', definition: chillerStartupDefinition, designPoint, readings, steps: {}, findings: [], attachments: [], signatures: [],
+    openFindings: 0, unitSystem: 'IP', siteBarometricKpa: 101.325, definition: chillerStartupDefinition, designPoint, readings, steps: {}, findings: [], attachments: [], signatures: [],
   }
 }
 

@@ -89,7 +89,8 @@ describe('handover report PDF', () => {
     expect(text).toContain('Water-cooled centrifugal chiller')
     expect(text).toContain('Vexley General Hospital')
     expect(text).toContain('HX-24-0312')
-    for (const reading of ['498.7 tons', '0.559 kW/ton', '468 V', '402 A', '1185 gpm', '54.3 °F', '44.2 °F', '2.2 °F', '1.2 %', '0.9 %', '279 kW', '38.1 psid', '8.6 s', '11.1 s', '20.9 s', '19.1 ft of water', '30 h']) {
+    // Capacity from 1185 gpm × 10.1 °F with IF97 water properties at the mean 49.25 °F: 500.4 tons (the 500 rule gave 498.7).
+    for (const reading of ['500.4 tons', '0.558 kW/ton', '100.1 % of design capacity', 'Capacity control during the readings: at full capacity', '468 V', '402 A', '1185 gpm', '54.3 °F', '44.2 °F', '2.2 °F', '0.9 %', '279 kW', '38.1 psid', '8.6 s', '11.1 s', '20.9 s', '19.1 ft of water', '30 h']) {
       expect(text, reading).toContain(reading)
     }
     for (const word of ['Pass', 'Marginal', 'FAIL']) expect(text).toContain(word)
@@ -97,6 +98,9 @@ describe('handover report PDF', () => {
     expect(text).toContain('High condenser pressure cutout tripped at 155.2 psig')
     expect(text).toContain('Vent valve cap missing on the condenser leaving water box.')
     expect(text).toMatch(/Major.*Open/)
+    expect(text).toMatch(/Heat balance 2 ?%/) // (1759.9 + 279 − 1998) / 1998 with IF97 water properties on both sides
+    expect(text).toContain('At least 35 psid (design 35 psid, 0 %)') // never "−0 %"
+    expect(text).not.toMatch(/−0(?![.\d])/)
     expect(text).toMatch(/Minor.*Resolved/)
     expect(text).toContain('Rafe Okafor')
     expect(text).toContain('Maren Solvik')
@@ -179,7 +183,7 @@ describe('handover report PDF', () => {
     const chart = html.match(/<div class="chart-svg">(<svg[\s\S]*?<\/svg>)<\/div>/)?.[1] ?? ''
     expect(chart).toContain('<path')
     expect(chart).toContain('Setpoint 35 psid')
-    expect(chart).toContain('Floor 25 psid')
+    expect(chart).toContain('Floor 24.5 psid') // 30 % below the machine's 35 psid setpoint
     expect(chart).toContain('Drive start 32 s')
     expect(chart).toMatch(/Hold 20\.9 s/)
     expect(chart).not.toMatch(/<image|<script|href=/)

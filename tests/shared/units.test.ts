@@ -166,8 +166,10 @@ describe('property: conversions round-trip', () => {
           const units = unitsOf(kind)
           const a = units[i % units.length].id
           const b = units[j % units.length].id
-          const back = convert(convert(value, a, b, kind), b, a, kind)
-          expect(Math.abs(back - value)).toBeLessThanOrEqual(1e-9 * Math.max(1, Math.abs(value)) + 1e-9)
+          // A reciprocal unit (COP) takes positive values only: efficiency is never zero or negative.
+          const v = units[i % units.length].reciprocal || units[j % units.length].reciprocal ? Math.abs(value) + 1e-3 : value
+          const back = convert(convert(v, a, b, kind), b, a, kind)
+          expect(Math.abs(back - v)).toBeLessThanOrEqual(1e-9 * Math.max(1, Math.abs(v)) + 1e-9)
         },
       ),
     )
@@ -177,9 +179,29 @@ describe('property: conversions round-trip', () => {
       fc.property(fc.constantFrom(...QUANTITY_KINDS), fc.double({ min: -1e5, max: 1e5, noNaN: true }), fc.nat(), (kind, value, i) => {
         const units = unitsOf(kind)
         const u = units[i % units.length].id
-        const back = fromCanonical(toCanonical(value, u, kind), u, kind)
-        expect(Math.abs(back - value)).toBeLessThanOrEqual(1e-9 * Math.max(1, Math.abs(value)))
+        const v = units[i % units.length].reciprocal ? Math.abs(value) + 1e-3 : value
+        const back = fromCanonical(toCanonical(v, u, kind), u, kind)
+        expect(Math.abs(back - v)).toBeLessThanOrEqual(1e-9 * Math.max(1, Math.abs(v)))
       }),
     )
+  })
+})
+
+describe('COP: SI efficiency, the reciprocal of specific power', () => {
+  // 1 ton of refrigeration = 12 000 Btu/h = 3.516 853 kW (NIST SP 811 (2008) App. B.8), so COP = 3.516 853 / (kW/ton)
+  // (docs/REFERENCES.md §Units, conversions and printed digits).
+  it('when 0.576 kW/ton is read as COP, then it is 3.516853 / 0.576 = 6.1056', () => {
+    expect(convert(0.576, 'kWPerTon', 'COP', 'specific_power')).toBeCloseTo(6.10565, 4)
+    expect(convert(6.10565, 'COP', 'kWPerTon', 'specific_power')).toBeCloseTo(0.576, 5)
+    expect(convert(0.2, 'kWPerKW', 'COP', 'specific_power')).toBeCloseTo(5, 12)
+  })
+  it('when an SI project shows specific power, then its unit is COP', () => {
+    expect(displayUnit('specific_power', 'SI')).toBe('COP')
+    expect(displayUnit('specific_power', 'IP')).toBe('kWPerTon')
+  })
+  it('when zero or a negative value is converted to COP, then it is refused, and differences are refused', () => {
+    expect(() => convert(0, 'kWPerTon', 'COP', 'specific_power')).toThrow(EngineeringError)
+    expect(() => convert(-1, 'COP', 'kWPerTon', 'specific_power')).toThrow(EngineeringError)
+    expect(() => convertDifference(0.1, 'kWPerTon', 'COP', 'specific_power')).toThrow(EngineeringError)
   })
 })

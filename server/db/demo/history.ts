@@ -105,7 +105,7 @@ export const DEMO_HISTORY: RunPlan[] = [
   {
     id: 'ard-che3', project: 'ARD-EP', tag: 'CH-E3', technician: RAFE, daysAgo: 940, acceptAfterDays: 4,
     chiller: { load: 0.93 },
-    justify: { capacity: 'The campus load on the test day held the machine at about 93 % of design with the other two chillers off. Agreed with the owner’s representative: accept now and re-test the running checks at peak load in the summer.' },
+    notes: { 'test-conditions': 'The campus load on the test day held the machine at about 93 % of design with the other two chillers off. Agreed with the owner’s representative: accept now and re-test the running checks at peak load in the summer.' },
   },
   { id: 'ard-che1-r', project: 'ARD-EP', tag: 'CH-E1', technician: INES, daysAgo: 830, acceptAfterDays: 1, retestOf: 'ard-che1', notes: { evaporator: 'Peak-season performance check requested by the owner at the first summer peak.' } },
   { id: 'ard-che3-r', project: 'ARD-EP', tag: 'CH-E3', technician: RAFE, daysAgo: 820, acceptAfterDays: 2, retestOf: 'ard-che3', notes: { evaporator: 'Summer peak: campus load held the machine at design for the readings.' } },
@@ -185,7 +185,7 @@ export const DEMO_HISTORY: RunPlan[] = [
     id: 'vxh-ch2', project: 'VXH-CUP', tag: 'CH-2', technician: INES, daysAgo: 225, acceptAfterDays: 3,
     chiller: { load: 0.935 },
     set: { couplingGuard: { value: 'missing' } },
-    justify: { capacity: 'Hospital load in early spring held the machine at about 93 % of design; agreed with the owner’s representative to accept and re-test in the cooling season.' },
+    notes: { 'test-conditions': 'Hospital load in early spring held the machine at about 93 % of design; agreed with the owner’s representative to accept and re-test in the cooling season.' },
     findings: [{
       stepId: 'safeties', fieldId: 'couplingGuard', severity: 'critical',
       description: 'Coupling guard not fitted after the alignment check.',

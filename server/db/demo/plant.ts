@@ -250,6 +250,8 @@ export interface DemoProject {
   members: string[]
   /** When the admin set the project up, in days before the load (before its first run). */
   createdDaysAgo: number
+  /** Site elevation, m: gauge and vacuum readings there are read against a lower atmosphere. */
+  siteElevationM?: number
   equipment: DemoEquipment[]
 }
 
@@ -307,6 +309,9 @@ export const DEMO_PROJECTS: DemoProject[] = [
     siteAddress: '1770 Brookvane Street, Tellurock, CO 80999',
     timeZone: 'America/Denver',
     unitSystem: 'IP',
+    // A high-altitude site: the standard atmosphere at 1610 m is about 83.4 kPa, so the vacuum evaporators of its
+    // low-pressure machines saturate colder than a sea-level conversion would say.
+    siteElevationM: 1610,
     reportPaper: 'Letter',
     distributionList: ['building.engineer@harrowgatelife.test', 'closeout@ketterholtmech.test'],
     members: ['bastian.orrick@tallowmere.test', 'ines.marlow@tallowmere.test', 'wren.castellane@tallowmere.test', 'mireille.ashcombe@harrowgatelife.test', 'tamsin.quarrelby@ketterholtmech.test'],

@@ -122,7 +122,9 @@ export function chillerRun(
   r: Rng,
   k: ChillerKnobs,
   people: { technician: string; attendees: string },
+  atmosphereKpa = 101.325,
 ): GeneratedRun {
+  const has = (fieldId: string) => fieldPlaces(definition).has(fieldId)
   const refrigerant = String(design.refrigerant)
   const lowPressure = refrigerant === 'R-1233zd(E)'
   // A machine with a vacuum evaporator is read in inches of mercury on an I-P gauge; an SI gauge reads negative kPa.
@@ -181,7 +183,8 @@ export function chillerRun(
       driveStartS: driveS,
     })
     w.num('oilPressureAtDriveStart', peak * 0.995)
-    w.num('prelubeTime', driveS, 's', 0)
+    // The capture marks the drive start; a template without that link still asks for the stopwatch time.
+    if (!fieldPlaces(definition).get('prelubeTime')?.field.fromDriveStart) w.num('prelubeTime', driveS, 's', 0)
     w.num('starterRampTime', k.starterRampS ?? r.between(3.8, 6.2), 's', 1)
     yes(w, 'startWithoutTrouble')
   }
@@ -210,13 +213,19 @@ export function chillerRun(
   w.num('oilTempRunning', r.between(118, 138))
   const evapSat = chwOutTyped - (k.evapApproach ?? r.between(0.9, 2.0))
   // The fourth reading of the evaporator step is the refrigerant pressure the saturated temperature comes from.
-  w.num('evapPressure', saturationPressurePsig(refrigerant, evapSat), 'psig', lowPressure ? 2 : 1)
+  w.num('evapPressure', saturationPressurePsig(refrigerant, evapSat, 'dew', atmosphereKpa), 'psig', lowPressure ? 2 : 1)
   const cwIn = w.num('cwEntering', cwInDesign + r.between(-0.6, 0.3))
   const cwFlow = w.num('cwFlow', condGpm * cwFlowFactor)
   const rejected = capacity + kwTyped / KW_PER_TON
   const cwOut = w.num('cwLeaving', cwIn + (rejected * 12000) / (500 * cwFlow))
   const condSat = cwOut + (k.condApproach ?? r.between(0.9, 2.2))
-  w.num('condPressure', saturationPressurePsig(refrigerant, condSat), 'psig', lowPressure ? 2 : 1)
+  w.num('condPressure', saturationPressurePsig(refrigerant, condSat, 'dew', atmosphereKpa), 'psig', lowPressure ? 2 : 1)
+  if (has('capacityControl')) {
+    // The test conditions (template revision 2): a machine below about 97 % of design was following the building load.
+    w.put('capacityControl', { value: load < 0.97 ? 'following' : 'full' })
+    w.put('condenserControl', { value: cwIn < cwInDesign - 0.4 ? 'colder' : 'design' })
+    w.num('loadAmpsPct', ((ia + ib + ic) / 3 / fla) * 100, '%', 0)
+  }
   w.num('chwSetpoint', chwOutDesign)
 
   yes(w, 'chwFlowLossTrip')

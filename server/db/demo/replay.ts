@@ -106,7 +106,7 @@ export interface Actor {
 
 /** Steps a re-test repeats: the running checks, and whatever failed, was marginal or had a finding the first time. */
 const RETEST_KEEPS: Record<string, string[]> = {
-  centrifugal_chiller: ['prestart-safety', 'water-flow', 'motor-supply', 'oil-running', 'evaporator', 'condenser', 'performance', 'setpoint'],
+  centrifugal_chiller: ['prestart-safety', 'water-flow', 'test-conditions', 'motor-supply', 'oil-running', 'evaporator', 'condenser', 'performance', 'setpoint'],
   pump: ['pump-safety', 'alignment-final', 'hydraulic', 'pump-electrical', 'mechanical'],
 }
 
@@ -146,7 +146,7 @@ export async function fillRun(
   const generated =
     ctx.equipment.kind === 'pump'
       ? pumpRun(definition, ctx.unitSystem, ctx.equipment.designPoint, r, plan.pump ?? {})
-      : chillerRun(definition, ctx.unitSystem, ctx.equipment.designPoint, r, plan.chiller ?? {}, { technician: ctx.tech.user.displayName, attendees: ctx.attendees })
+      : chillerRun(definition, ctx.unitSystem, ctx.equipment.designPoint, r, plan.chiller ?? {}, { technician: ctx.tech.user.displayName, attendees: ctx.attendees }, run.siteBarometricKpa)
   const entries = new Map<string, FieldEntry>(generated.entries.map((e) => [e.fieldId, e.entry]))
   for (const [fieldId, entry] of Object.entries(plan.set ?? {})) entries.set(fieldId, entry)
   const versions = new Map<string, number>()
