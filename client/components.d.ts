@@ -21,6 +21,7 @@ declare module 'vue' {
     BaseLogo: typeof import('./components/BaseLogo.vue')['default']
     BaseProjectCard: typeof import('./components/BaseProjectCard.vue')['default']
     BaseRampChart: typeof import('./components/BaseRampChart.vue')['default']
+    BaseRunSupersedes: typeof import('./components/BaseRunSupersedes.vue')['default']
     BaseSignaturePad: typeof import('./components/BaseSignaturePad.vue')['default']
     BaseSignedRunsDialog: typeof import('./components/BaseSignedRunsDialog.vue')['default']
     BaseVerdictBadge: typeof import('./components/BaseVerdictBadge.vue')['default']

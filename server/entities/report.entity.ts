@@ -1,4 +1,5 @@
 import { Column, CreateDateColumn, Entity, PrimaryGeneratedColumn } from 'typeorm'
+import type { CheckIndex, RunSupersedes } from '@shared/record'
 
 export type ReportStatus = 'pending' | 'ready' | 'failed'
 
@@ -71,6 +72,14 @@ export class Report {
 
   @Column({ type: 'integer', name: 'template_version', nullable: true })
   templateVersion: number | null
+
+  /** Which checks the run performed and which it carried over from where (from the signed snapshot, at acceptance). */
+  @Column({ type: 'jsonb', name: 'check_index', nullable: true })
+  checkIndex: CheckIndex | null
+
+  /** What the run superseded among the earlier reports of its lineage when it was accepted, with the cover's words. */
+  @Column({ type: 'jsonb', nullable: true })
+  supersedes: (RunSupersedes & { words: string | null }) | null
 
   /** Which render holds the report now, and until when (a lease: a crashed worker's claim runs out). */
   @Column({ type: 'uuid', name: 'claim_token', nullable: true })

@@ -10,10 +10,10 @@ import { ArchiveQueryIndexes1764673200000 } from './1764673200000-ArchiveQueryIn
 import { SignedSnapshot1764680000000 } from './1764680000000-SignedSnapshot'
 import { EditVersions1764700000000 } from './1764700000000-EditVersions'
 import { Dispositions1764710000000 } from './1764710000000-Dispositions'
+import { SiteBarometric1764720000000 } from './1764720000000-SiteBarometric'
+import { CheckSupersession1764730000000 } from './1764730000000-CheckSupersession'
 
 /** Every migration in order. Listed by hand so tsx, Vitest and the CLI all load the same classes without a glob. */
-import { SiteBarometric1764720000000 } from './1764720000000-SiteBarometric'
-
 export const migrations = [
   Foundation1764633600000, RateLimit1764633700000, EquipmentAndTemplates1764640800000, Runs1764648000000, SignaturesAndMail1764655200000, Reports1764658800000, ArchiveIndex1764662400000,
   CloseoutAndRetention1764669600000,
@@ -22,4 +22,5 @@ export const migrations = [
   EditVersions1764700000000,
   Dispositions1764710000000,
   SiteBarometric1764720000000,
+  CheckSupersession1764730000000,
 ]

@@ -811,7 +811,7 @@ export function buildReportView(input: ReportInput): ReportView {
     counts,
     totalChecks: p.checks,
     judgedChecks: p.judged,
-    supersedes: null,
+    supersedes: input.supersedes ?? null,
     totalsLine: describeTotalsLine(p),
     acceptance: run.state === 'accepted' ? acceptanceWords(exceptions.length) : null,
     exceptions: exceptionViews,

@@ -2,6 +2,7 @@ import type { DataSource } from 'typeorm'
 import type { ArchiveQuery } from '@shared/schemas/archive'
 import type { SessionUser } from '@shared/types/api'
 import type { ArchiveFacets, ArchiveItem, ArchivePage } from '@shared/types/archive'
+import { compareIssued, reportSupersession, type CheckIndex, type IssuedChecks, type ReportSupersession } from '@shared/record'
 import { AppError } from '../errors/app-error'
 
 export type { ArchiveItem, ArchivePage }
@@ -97,7 +98,7 @@ export class ArchiveService {
     return {
       total,
       nextCursor: more && last ? encode({ at: new Date(last.accepted_at as string).toISOString(), id: last.id as string }) : null,
-      items: page.map(toItem),
+      items: await this.withSupersession(page),
     }
   }
 
@@ -107,7 +108,8 @@ export class ArchiveService {
     if (scope.projectId) {
       if (!visible.includes(scope.projectId)) throw new AppError('invalid_input', 'projectId names no project you can see', 400, { projectId: 'No such project' })
       const rows = await this.select(`r.status = 'ready' AND r.project_id = $1`, [scope.projectId], 'r.equipment_tag, r.accepted_at, r.id')
-      return rows.map((r) => ({ ...toItem(r), storageKey: r.storage_key as string }))
+      const items = await this.withSupersession(rows)
+      return items.map((item, i) => ({ ...item, storageKey: rows[i].storage_key as string }))
     }
     const numbers = [...new Set(scope.reportNumbers ?? [])]
     const rows = await this.select(`r.status = 'ready' AND r.project_id = ANY($1::uuid[]) AND r.report_number = ANY($2::text[])`, [visible, numbers], 'r.project_code, r.equipment_tag, r.accepted_at, r.id')
@@ -117,7 +119,8 @@ export class ArchiveService {
       if (!found.has(n)) missing[`reportNumbers[${i}]`] = `${n} names no issued report you can see`
     })
     if (Object.keys(missing).length) throw new AppError('invalid_input', Object.values(missing).join('; '), 400, missing)
-    return rows.map((r) => ({ ...toItem(r), storageKey: r.storage_key as string }))
+    const items = await this.withSupersession(rows)
+    return items.map((item, i) => ({ ...item, storageKey: rows[i].storage_key as string }))
   }
 
   /** What the filter menus offer: the projects, equipment, checklists and technicians that have visible issued reports. */
@@ -157,6 +160,36 @@ export class ArchiveService {
     }
   }
 
+  /**
+   * Each row with its supersession by check: one query reads the check indexes kept on the issued reports of the page's
+   * lineages (equipment and checklist), never a snapshot or a reading; the state is computed from those.
+   */
+  private async withSupersession(rows: Record<string, unknown>[]): Promise<ArchiveItem[]> {
+    if (!rows.length) return []
+    const key = (equipmentId: unknown, templateId: unknown) => `${equipmentId}\u0000${templateId}`
+    const pairs = [...new Map(rows.map((r) => [key(r.equipment_id, r.template_id), [r.equipment_id as string, r.template_id as string] as const])).values()]
+    const issued: { report_number: string; equipment_id: string; template_id: string; accepted_at: Date; check_index: CheckIndex | null }[] = await this.db.query(
+      `SELECT n.report_number, n.equipment_id, n.template_id, n.accepted_at, n.check_index
+         FROM report n JOIN unnest($1::uuid[], $2::uuid[]) AS l(equipment_id, template_id) ON n.equipment_id = l.equipment_id AND n.template_id = l.template_id
+        WHERE n.status = 'ready'`,
+      [pairs.map((p) => p[0]), pairs.map((p) => p[1])],
+    )
+    const lineages = new Map<string, IssuedChecks[]>()
+    for (const n of issued) {
+      const k = key(n.equipment_id, n.template_id)
+      let list = lineages.get(k)
+      if (!list) lineages.set(k, (list = []))
+      list.push({ reportNumber: n.report_number, acceptedAt: new Date(n.accepted_at).toISOString(), index: n.check_index })
+    }
+    for (const list of lineages.values()) list.sort(compareIssued)
+    return rows.map((r) => {
+      const lineage = lineages.get(key(r.equipment_id, r.template_id)) ?? []
+      const own = lineage.find((x) => x.reportNumber === r.report_number)
+      const supersession = own ? reportSupersession(own, lineage) : reportSupersession({ reportNumber: r.report_number as string, acceptedAt: new Date(r.accepted_at as string).toISOString(), index: null }, lineage)
+      return toItem(r, supersession)
+    })
+  }
+
   private select(where: string, params: unknown[], orderBy: string, limit = ''): Promise<Record<string, unknown>[]> {
     return this.db.query(
       // Identity as issued (copied from the signed snapshot at acceptance); only whether the project is closed is live.
@@ -164,9 +197,7 @@ export class ArchiveService {
               r.time_zone,
               r.equipment_id, r.equipment_tag AS tag, r.equipment_kind AS kind, r.serial_number, r.template_id, r.template_name, r.template_version,
               r.technician_id, u.display_name AS technician_name, r.accepted_at, r.fail_count, r.marginal_count, r.open_finding_count,
-              r.sha256, r.size_bytes, r.storage_key, r.id,
-              (SELECT n.report_number FROM report n WHERE n.status = 'ready' AND n.equipment_id = r.equipment_id AND n.template_id = r.template_id
-                  AND n.accepted_at > r.accepted_at ORDER BY n.accepted_at DESC LIMIT 1) AS superseded_by
+              r.sha256, r.size_bytes, r.storage_key, r.id
          FROM report r
          JOIN project p ON p.id = r.project_id
          LEFT JOIN app_user u ON u.id = r.technician_id
@@ -178,7 +209,7 @@ export class ArchiveService {
   }
 }
 
-function toItem(r: Record<string, unknown>): ArchiveItem {
+function toItem(r: Record<string, unknown>, supersession: ReportSupersession): ArchiveItem {
   return {
     reportNumber: r.report_number as string,
     runId: r.run_id as string,
@@ -203,6 +234,8 @@ function toItem(r: Record<string, unknown>): ArchiveItem {
     sha256: r.sha256 as string,
     sizeBytes: Number(r.size_bytes),
     downloadUrl: `/api/runs/${r.run_id}/report.pdf`,
-    supersededBy: (r.superseded_by as string | null) ?? null,
+    // Superseded as a whole only when every check it performed has a newer result: the newest report that re-tested it.
+    supersededBy: supersession.state === 'superseded' ? (supersession.by.at(-1)?.reportNumber ?? null) : null,
+    supersession,
   }
 }

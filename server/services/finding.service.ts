@@ -11,7 +11,8 @@ import { recordAudit } from './audit.service'
 import { changedKeys, editConflict } from './edit-conflict'
 import { attachmentViews, findingViews, keep, keptSnapshot, liveSnapshot, signedSnapshotHash } from './run-record'
 import { systemClock, type Clock } from './clock'
-import { blockingFindings, byOthersOf, countRunRecord, exceptionsOf, fieldPlaces, safetyStop } from '@shared/record'
+import { blockingFindings, byOthersOf, checkIndexOf, countRunRecord, exceptionsOf, fieldPlaces, runSupersedes, safetyStop } from '@shared/record'
+import { lineageOf } from './report.service'
 import type { RunContext, RunService } from './run.service'
 
 /** What may be attached to a run: photos and PDFs, recognised by their bytes, not by the name a browser gave them. */
@@ -223,6 +224,9 @@ export class FindingService {
     ]
     if (!EDITABLE_RUN_STATES.includes(ctx.run.state)) blockers.push(`The run is ${ctx.run.state.replace('_', ' ')}`)
     const exceptions = exceptionsOf(snapshot, count)
+    // What accepting it supersedes among the reports accepted before it (before its own acceptance, once accepted).
+    const [own] = (await manager.query(`SELECT accepted_at FROM report WHERE run_id = $1`, [runId])) as { accepted_at: Date | null }[]
+    const earlier = await lineageOf(manager, { equipmentId: snapshot.run.equipmentId, templateId: snapshot.run.templateId }, { before: own?.accepted_at ?? undefined, excludeRunId: runId })
     return {
       counts: count.totals,
       problems,
@@ -234,6 +238,7 @@ export class FindingService {
       canSign: blockers.length === 0,
       blockers,
       snapshotSha256: kept.sha256,
+      supersession: runSupersedes(checkIndexOf(count), earlier, 'preview'),
     }
   }
 }

@@ -365,9 +365,11 @@ or scan the QR code printed in the report. To check that nothing in this package
   sha256sum -c SHA256SUMS
 in this folder (every file except SHA256SUMS itself is listed).
 
-KEEP SUPERSEDED REPORTS. A re-test of the same equipment with the same checklist supersedes the earlier report, but
-a re-test may mark checks not applicable because they were done and accepted before (its reason names that report).
-The earlier reports are then still the evidence for those checks; reports.csv names each one's successor.
+KEEP SUPERSEDED REPORTS. A re-test of the same equipment with the same checklist supersedes an earlier report only for
+the checks it performed again; the checks it carries over ("verified earlier", naming that report) stay on the earlier
+report, which is still their evidence. manifest.json gives each report's supersession by check (current, partly
+superseded with how many checks and by which reports, or superseded); reports.csv's superseded_by names the successor
+only once every check a report performed was performed again later.
 
 LAYOUT
   README.txt                    this file

@@ -2,7 +2,7 @@ import { createHash, randomUUID } from 'node:crypto'
 import canonicalize from 'canonicalize'
 import sharp from 'sharp'
 import { In, type DataSource, type EntityManager } from 'typeorm'
-import { countRunRecord, localTime, runDetailFromSnapshot, signatureRecord, type RunSnapshot } from '@shared/record'
+import { checkIndexOf, countRunRecord, localTime, runDetailFromSnapshot, runSupersedes, signatureRecord, supersedesWords, type CheckIndex, type IssuedChecks, type RunSnapshot } from '@shared/record'
 import type { ReportInput } from '@shared/types/report'
 import { AppError } from '../errors/app-error'
 import { Project, Report, Run, RunAttachment, Signature } from '../entities'
@@ -48,7 +48,7 @@ async function indexForArchive(tx: EntityManager, reportId: string, snapshot: Ru
             fail_count = $7, marginal_count = $8, open_finding_count = $9,
             search = setweight(to_tsvector('simple', $10), 'A') || setweight(to_tsvector('english', $11), 'B') || to_tsvector('english', $12),
             equipment_tag = $13, equipment_kind = $14, serial_number = $15, project_code = $16, project_name = $17, time_zone = $18,
-            template_name = $19, template_version = $20
+            template_name = $19, template_version = $20, check_index = $21
       WHERE id = $1`,
     [
       reportId, run.projectId, run.equipmentId, run.templateId, technicianId, acceptedAt, counts.fail, counts.marginal, openFindings,
@@ -56,8 +56,38 @@ async function indexForArchive(tx: EntityManager, reportId: string, snapshot: Ru
       `${equipment.manufacturer} ${equipment.model} ${run.templateName}`,
       `${notes} ${findings}`,
       equipment.tag, equipment.kind, equipment.serialNumber, project.code, project.name, project.timeZone, run.templateName, run.templateVersionNumber,
+      JSON.stringify(checkIndexOf(countRunRecord(snapshot))),
     ],
   )
+}
+
+/**
+ * The accepted reports of a lineage (the same equipment with the same checklist, any version of it) with their check
+ * indexes: every accepted run's report, whether or not its PDF is rendered yet. `before` keeps those accepted earlier.
+ */
+export async function lineageOf(
+  manager: Pick<EntityManager, 'query'>,
+  lineage: { equipmentId: string; templateId: string },
+  options: { before?: Date; excludeRunId?: string; readyOnly?: boolean } = {},
+): Promise<IssuedChecks[]> {
+  const rows: { report_number: string; accepted_at: Date; check_index: CheckIndex | null }[] = await manager.query(
+    `SELECT report_number, accepted_at, check_index FROM report
+      WHERE equipment_id = $1 AND template_id = $2 AND accepted_at IS NOT NULL
+        AND ($3::timestamptz IS NULL OR accepted_at < $3) AND ($4::uuid IS NULL OR run_id <> $4) AND (NOT $5 OR status = 'ready')
+      ORDER BY accepted_at, report_number`,
+    [lineage.equipmentId, lineage.templateId, options.before ?? null, options.excludeRunId ?? null, options.readyOnly ?? false],
+  )
+  return rows.map((r) => ({ reportNumber: r.report_number, acceptedAt: new Date(r.accepted_at).toISOString(), index: r.check_index }))
+}
+
+/**
+ * What a run being accepted supersedes among the reports accepted before it, kept with its report in the acceptance
+ * transaction: its cover prints these words, and nothing accepted later changes them.
+ */
+async function freezeSupersedes(tx: EntityManager, reportId: string, snapshot: RunSnapshot, acceptedAt: Date) {
+  const earlier = await lineageOf(tx, { equipmentId: snapshot.run.equipmentId, templateId: snapshot.run.templateId }, { before: acceptedAt, excludeRunId: snapshot.run.id })
+  const result = runSupersedes(checkIndexOf(countRunRecord(snapshot)), earlier, 'report')
+  await tx.query(`UPDATE report SET supersedes = $2 WHERE id = $1`, [reportId, JSON.stringify({ ...result, words: supersedesWords(result) })])
 }
 
 /** The render queue as the report service sees it: hand a report over; it may not be running (the sweep catches up). */
@@ -154,6 +184,7 @@ export class ReportService {
     // Archive columns are filled at once, while the report is pending, so the archive can filter and count a report that
     // is still waiting for its turn in the queue.
     await indexForArchive(tx, report.id, snapshot, acceptedAt, performer?.signerId ?? null)
+    await freezeSupersedes(tx, report.id, snapshot, acceptedAt)
     await recordAudit(tx, {
       actorId: null,
       action: 'report.request',
@@ -261,6 +292,8 @@ export class ReportService {
       verifyUrl: `${this.deps.publicUrl.replace(/\/$/, '')}/verify/${report.reportNumber}`,
       generatedAtUtc: new Date().toISOString(),
       photoDataUrls,
+      // Frozen at acceptance with the report row (a report issued before that was kept prints none).
+      ...(report.supersedes?.words ? { supersedes: report.supersedes.words } : {}),
     }
     return { ...input, contentSha256: reportContentSha256(input) }
   }

@@ -2,8 +2,9 @@ import { createHash } from 'node:crypto'
 import type { DataSource } from 'typeorm'
 import { verifySealedPdf, type SealVerification } from '../reports'
 import { AppError } from '../errors/app-error'
-import { localTime } from '@shared/record'
+import { listWords, localTime, reportSupersession, type ReportSupersession } from '@shared/record'
 import type { PublicReportFacts, VerifyAnswer, VerifyOutcome } from '@shared/types/verify'
+import { lineageOf } from './report.service'
 
 export type { PublicReportFacts, VerifyAnswer, VerifyOutcome }
 
@@ -42,49 +43,77 @@ function facts(row: ReportRow): PublicReportFacts {
   }
 }
 
-/** Tells whether a PDF is a genuine archived report (current or superseded), an altered one, or unknown here. */
+/** Tells whether a PDF is a genuine archived report (current, partly superseded or superseded), an altered one, or unknown here. */
 export class VerifyService {
   constructor(private readonly db: DataSource) {}
 
-  private async successor(row: ReportRow): Promise<ReportRow | null> {
-    // By acceptance, as the archive orders them: reports are rendered in queue order, which need not be the order of acceptance.
-    const [newer] = (await this.db.query(
-      `${FACTS_SQL} AND r.equipment_id = $1 AND r.template_id = $2
-         AND r.accepted_at > (SELECT o.accepted_at FROM report o WHERE o.id = $3) ORDER BY r.accepted_at DESC LIMIT 1`,
-      [row.equipment_id, row.template_id, row.id],
-    )) as ReportRow[]
-    return newer ?? null
+  /** The report's supersession by check among the issued reports of its equipment and checklist (their kept check indexes). */
+  private async supersession(row: ReportRow): Promise<ReportSupersession> {
+    const lineage = await lineageOf(this.db.manager, { equipmentId: row.equipment_id, templateId: row.template_id }, { readyOnly: true })
+    const own = lineage.find((x) => x.reportNumber === row.report_number)
+    // Without an acceptance time (a row older than the archive index) nothing can be ordered after it: it is current.
+    return own ? reportSupersession(own, lineage) : reportSupersession({ reportNumber: row.report_number, acceptedAt: new Date(8.64e15).toISOString(), index: null }, lineage)
   }
 
   private async answerFor(row: ReportRow, reasons: string[], sha256: string | null): Promise<VerifyAnswer> {
-    const newer = await this.successor(row)
+    const s = await this.supersession(row)
     const fileChecked = sha256 !== null
-    if (newer) {
+    const n = row.report_number
+    const by = listWords(s.by.map((b) => b.reportNumber))
+    const retest = s.retest ? [s.retest] : []
+    if (s.state === 'superseded') {
+      const [newer] = (await this.db.query(`${FACTS_SQL} AND r.report_number = $1`, [s.by.at(-1)!.reportNumber])) as ReportRow[]
       return {
         outcome: 'genuine_superseded',
-        headline: fileChecked ? `Genuine report ${row.report_number}, superseded by ${newer.report_number}` : `${row.report_number} is an issued report, superseded by ${newer.report_number}`,
-        reasons: [...reasons, `A later start-up of ${row.tag} with the same checklist was accepted and issued as ${newer.report_number}.`],
+        headline: fileChecked ? `Genuine report ${n}, superseded by ${by}` : `${n} is an issued report, superseded by ${by}`,
+        reasons: [
+          ...reasons,
+          s.performed === null
+            ? `A later start-up of ${row.tag} with the same checklist was accepted and issued as ${by}.`
+            : `Every check this report performed was performed again in a later start-up of ${row.tag} with the same checklist: ${by}.`,
+          ...retest,
+        ],
         report: facts(row),
-        supersededBy: facts(newer),
+        supersededBy: newer ? facts(newer) : null,
+        supersession: s,
+        sha256,
+        fileChecked,
+      }
+    }
+    if (s.state === 'partly') {
+      const words = s.words.charAt(0).toLowerCase() + s.words.slice(1)
+      const each = s.by.map((b) => `${b.reportNumber}: ${b.checks}`).join('; ')
+      return {
+        outcome: 'genuine_partly_superseded',
+        headline: fileChecked ? `Genuine report ${n}; ${words}` : `${n} is an issued report; ${words}`,
+        reasons: [
+          ...reasons,
+          `Later start-ups of ${row.tag} with the same checklist performed ${s.retested} of its ${s.performed} checks again (${each}). For the other ${s.performed! - s.retested!} it is still the current record.`,
+          ...retest,
+        ],
+        report: facts(row),
+        supersededBy: null,
+        supersession: s,
         sha256,
         fileChecked,
       }
     }
     return {
       outcome: 'genuine_current',
-      headline: fileChecked ? `Genuine report ${row.report_number}, and it is the current one` : `${row.report_number} is an issued report, and the current one`,
-      reasons,
+      headline: fileChecked ? `Genuine report ${n}, and it is the current one` : `${n} is an issued report, and the current one`,
+      reasons: [...reasons, ...retest],
       report: facts(row),
       supersededBy: null,
+      supersession: s,
       sha256,
       fileChecked,
     }
   }
 
-  /** The state of a report number (the QR code's link): genuine and current, superseded, or unknown. */
+  /** The state of a report number (the QR code's link): genuine and current, partly superseded, superseded, or unknown. */
   async byNumber(reportNumber: string): Promise<VerifyAnswer> {
     const [row] = (await this.db.query(`${FACTS_SQL} AND r.report_number = $1`, [reportNumber])) as ReportRow[]
-    if (!row) return { outcome: 'unknown', headline: `No issued report ${reportNumber} is in this archive`, reasons: ['The number may be mistyped, or the report was issued elsewhere.'], report: null, supersededBy: null, sha256: null, fileChecked: false }
+    if (!row) return { outcome: 'unknown', headline: `No issued report ${reportNumber} is in this archive`, reasons: ['The number may be mistyped, or the report was issued elsewhere.'], report: null, supersededBy: null, supersession: null, sha256: null, fileChecked: false }
     return this.answerFor(row, [`Report ${reportNumber} is in the archive.`, 'No file was compared: upload your copy to check that it is this report, unaltered.'], null)
   }
 
@@ -117,6 +146,7 @@ export class VerifyService {
         ],
         report: claimedRow ? facts(claimedRow) : null,
         supersededBy: null,
+        supersession: null,
         sha256,
         fileChecked: true,
       }
@@ -128,6 +158,7 @@ export class VerifyService {
         reasons: ['It names an archived report but its bytes differ and it carries no valid seal.'],
         report: facts(claimedRow),
         supersededBy: null,
+        supersession: null,
         sha256,
         fileChecked: true,
       }
@@ -137,6 +168,6 @@ export class VerifyService {
       : seal.signed
         ? [`It carries a seal${seal.signerCommonName ? ` by "${seal.signerCommonName}"` : ''}, but no report with this content is in this archive.`]
         : ['It carries no digital seal and matches no archived report.']
-    return { outcome: 'unknown', headline: 'This archive does not know this document', reasons, report: null, supersededBy: null, sha256, fileChecked: true }
+    return { outcome: 'unknown', headline: 'This archive does not know this document', reasons, report: null, supersededBy: null, supersession: null, sha256, fileChecked: true }
   }
 }

@@ -1,5 +1,7 @@
 /** The archive of issued handover reports, the closeout documents of a project and the handover package. */
 
+import type { ReportSupersession } from '../record/supersession'
+
 /** One issued (sealed, archived) report as the archive lists it. */
 export interface ArchiveItem {
   reportNumber: string
@@ -28,8 +30,13 @@ export interface ArchiveItem {
   sha256: string
   sizeBytes: number
   downloadUrl: string
-  /** The report of a later re-test of the same equipment with the same checklist, when there is one. */
+  /**
+   * The newest later report of the same equipment and checklist, when every check this report performed has a newer
+   * result (superseded as a whole); null while it is current or only partly superseded (see `supersession`).
+   */
   supersededBy: string | null
+  /** Supersession by check (shared/record/supersession.ts): current, partly superseded (how many, by which) or superseded. */
+  supersession: ReportSupersession
 }
 
 export interface ArchivePage {

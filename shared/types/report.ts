@@ -21,6 +21,12 @@ export interface ReportInput {
   /** SHA-256 (hex) of the report content (canonical JSON of this input without this field), printed in the verification block. */
   contentSha256: string
   generatedAtUtc: string
+  /**
+   * A re-test: what it superseded among the earlier reports of the same equipment and checklist, and what it carried
+   * over from where, in words (shared/record/supersession.ts), as kept with the report at acceptance. Absent for a first
+   * report that carries nothing over.
+   */
+  supersedes?: string | null
   /** Photos of the run as data URLs, by run attachment id (only images; PDFs are listed by name). */
   photoDataUrls: Record<string, string>
 }

@@ -6,6 +6,7 @@ import type { SignatureRecord } from './signature'
 import type { Disposition } from '../record/disposition'
 import type { RecordException } from '../record/exceptions'
 import type { ByOthersItem } from '../record/counting'
+import type { RunSupersedes } from '../record/supersession'
 
 /** DESIGN.md §6: in_progress → submitted (performer signed) → accepted, or returned to the technician. */
 export type RunState = 'in_progress' | 'submitted' | 'accepted' | 'returned'
@@ -174,4 +175,9 @@ export interface RunReview {
   blockers: string[]
   /** SHA-256 of the run's canonical snapshot now: send it back when signing, so a run that changed meanwhile is refused. */
   snapshotSha256: string
+  /**
+   * What accepting this run supersedes among the earlier accepted reports of the same equipment and checklist (how many
+   * of whose checks), and what it carries over from where: shown before the performer signs and before acceptance.
+   */
+  supersession: RunSupersedes
 }

@@ -1,6 +1,12 @@
 /** The answers of the public Verify page (`/api/verify`). */
 
-export type VerifyOutcome = 'genuine_current' | 'genuine_superseded' | 'altered' | 'unknown'
+import type { ReportSupersession } from '../record/supersession'
+
+/**
+ * `genuine_partly_superseded`: later start-ups of the same equipment and checklist performed some of its checks again;
+ * for the others it is still the current record. `genuine_superseded`: every check it performed has a newer result.
+ */
+export type VerifyOutcome = 'genuine_current' | 'genuine_partly_superseded' | 'genuine_superseded' | 'altered' | 'unknown'
 
 /** What anyone may learn about a report: DESIGN.md keeps everything else to people with access. */
 export interface PublicReportFacts {
@@ -19,8 +25,10 @@ export interface VerifyAnswer {
   headline: string
   reasons: string[]
   report: PublicReportFacts | null
-  /** The newer report of the same equipment and checklist, when this one was superseded. */
+  /** The newest report of the same equipment and checklist, when this one was superseded as a whole. */
   supersededBy: PublicReportFacts | null
+  /** Supersession by check (shared/record/supersession.ts), for a genuine report; null otherwise. */
+  supersession: ReportSupersession | null
   sha256: string | null
   /** False when only a report number was looked up: no file was compared, so nothing about a copy is proven. */
   fileChecked: boolean

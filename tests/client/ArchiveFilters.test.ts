@@ -86,6 +86,7 @@ const item = (n: number, over: Partial<ArchiveItem> = {}): ArchiveItem => ({
   sizeBytes: 495_000,
   downloadUrl: `/api/runs/run-${n}/report.pdf`,
   supersededBy: null,
+  supersession: { state: 'current', words: 'Current', by: [], performed: 95, retested: 0, retest: null },
   ...over,
 })
 const page = (items: ArchiveItem[], total = items.length, nextCursor: string | null = null): ArchivePage => ({ items, total, nextCursor })
@@ -115,7 +116,7 @@ beforeEach(() => {
   setActivePinia(createPinia())
   window.matchMedia ??= ((query: string) => ({ matches: false, media: query, addEventListener() {}, removeEventListener() {} })) as unknown as typeof window.matchMedia
   Element.prototype.scrollIntoView ??= () => undefined
-  api.search.mockReset().mockResolvedValue(page([item(3), item(2, { failCount: 1, openFindingCount: 1, supersededBy: 'SP-2026-000003' }), item(1)], 3))
+  api.search.mockReset().mockResolvedValue(page([item(3), item(2, { failCount: 1, openFindingCount: 1, supersededBy: 'SP-2026-000003', supersession: { state: 'superseded', words: 'Superseded: all 95 checks re-tested in SP-2026-000003', by: [{ reportNumber: 'SP-2026-000003', checks: 95 }], performed: 95, retested: 95, retest: null } }), item(1)], 3))
   api.facets.mockReset().mockResolvedValue(facets)
   api.list.mockReset().mockResolvedValue([])
 })
@@ -236,6 +237,22 @@ describe('archive filters and the URL query', () => {
     await flushPromises()
     expect(router.currentRoute.value.query).toEqual({ report: 'SP-2026-000003' })
     expect(api.search.mock.calls.length).toBe(calls)
+    wrapper.unmount()
+  })
+
+  it('when a baseline had only some checks re-tested, then it says partly superseded with the count, and the re-test says what it carries over', async () => {
+    const partly = { state: 'partly' as const, words: 'Partly superseded: 8 of 95 checks re-tested in SP-2026-000003', by: [{ reportNumber: 'SP-2026-000003', checks: 8 }], performed: 95, retested: 8, retest: null }
+    const retest = { state: 'current' as const, words: 'Current', by: [], performed: 8, retested: 0, retest: 'Re-test: performed 8 of its 95 checks. 87 checks carried over from SP-2026-000002.' }
+    api.search.mockReset().mockResolvedValue(page([item(3, { supersession: retest }), item(2, { supersession: partly })], 2))
+    const { wrapper, router } = await mountAt('/archive')
+    const button = wrapper.find('[data-test="superseded-SP-2026-000002"]')
+    expect(button.text()).toBe('Partly superseded: 8 of 95 checks re-tested in SP-2026-000003 →')
+    expect(button.text()).not.toContain('Superseded by')
+    expect(wrapper.find('[data-test="superseded-SP-2026-000003"]').exists()).toBe(false)
+    expect(wrapper.find('[data-test="retest-SP-2026-000003"]').text()).toBe(retest.retest)
+    await button.trigger('click')
+    await flushPromises()
+    expect(router.currentRoute.value.query).toEqual({ report: 'SP-2026-000003' })
     wrapper.unmount()
   })
 

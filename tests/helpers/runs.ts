@@ -51,6 +51,37 @@ export async function makeSignable(techAgent: request.Agent, run: { id: string; 
   await techAgent.put(`/api/runs/${run.id}/readings/oilTempRunning`).send({ changeId: randomUUID(), baseVersion: 0, entry: { value: 125, unit: 'degF' } }).expect(200)
 }
 
+type Definition = { sections: { steps: { id: string; safety?: boolean; fields: { id: string }[] }[] }[] }
+const change = (body: Record<string, unknown>) => ({ changeId: randomUUID(), baseVersion: 0, ...body })
+const carriedFrom = (reportNumber: string) => ({ kind: 'verified_earlier', reportNumber, reason: 'Checked then and unchanged since' })
+
+/**
+ * Fills a run as a re-test does: the pre-work safety items Yes, the named readings, whole steps or single checks carried
+ * over ("verified earlier") from a report, and every other step not applicable.
+ */
+export async function fillRetest(agent: request.Agent, run: { id: string; definition: Definition }, plan: { read?: Record<string, unknown>; carrySteps?: Record<string, string>; carryFields?: Record<string, string> }) {
+  for (const step of run.definition.sections.flatMap((x) => x.steps)) {
+    if (step.safety) {
+      for (const f of step.fields) await agent.put(`/api/runs/${run.id}/readings/${f.id}`).send(change({ entry: { value: true } })).expect(200)
+      continue
+    }
+    const from = plan.carrySteps?.[step.id]
+    if (from) {
+      await agent.put(`/api/runs/${run.id}/steps/${step.id}`).send(change({ disposition: carriedFrom(from) })).expect(200)
+      continue
+    }
+    const own = step.fields.filter((f) => plan.read?.[f.id] !== undefined || plan.carryFields?.[f.id])
+    if (!own.length) {
+      await agent.put(`/api/runs/${run.id}/steps/${step.id}`).send(change({ notApplicable: true, naReason: 'Not part of this re-test' })).expect(200)
+      continue
+    }
+    for (const f of own) {
+      const body = plan.carryFields?.[f.id] ? { disposition: carriedFrom(plan.carryFields[f.id]) } : { entry: plan.read![f.id] }
+      await agent.put(`/api/runs/${run.id}/readings/${f.id}`).send(change(body)).expect(200)
+    }
+  }
+}
+
 export const snapshotOf = async (agent: request.Agent, runId: string) => (await agent.get(`/api/runs/${runId}/review`)).body.review.snapshotSha256 as string
 
 /** Signs a run with the test password, the test drawing and the snapshot the review shows now. */

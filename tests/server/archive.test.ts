@@ -1,8 +1,11 @@
 import { randomUUID } from 'node:crypto'
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
 import type { ReportRenderer, ReportService } from '../../server/services/report.service'
-import { createTestContext, makeUser, resetDatabase, signedInAgent, type TestContext } from '../helpers/context'
-import { issueReport, makeSignable, readyRun } from '../helpers/runs'
+import type { ArchiveItem } from '@shared/types/archive'
+import type { SessionUser } from '@shared/types/api'
+import { indexReportsFromSnapshots } from '../../server/migrations/1764730000000-CheckSupersession'
+import { asOwner, createTestContext, makeUser, resetDatabase, signedInAgent, type TestContext } from '../helpers/context'
+import { fillRetest, issueReport, makeSignable, readyRun } from '../helpers/runs'
 
 let ctx: TestContext
 const services = () => ctx.services
@@ -65,6 +68,47 @@ describe('/api/archive', () => {
     expect((await s.repAgent.get(`/api/archive?from=${there}&to=${there}`)).body.total).toBe(there === today ? 3 : 1)
     expect((await s.repAgent.get(`/api/archive?from=${today}&to=${today}`)).body.total).toBe(there === today ? 3 : 2)
     expect((await s.repAgent.get('/api/archive')).body.items.map((i: { projectTimeZone: string }) => i.projectTimeZone)).toEqual(['Pacific/Kiritimati', 'America/Chicago', 'America/Chicago'])
+  }, 120_000)
+
+  it('when a re-test repeats only some checks, then the baseline is partly superseded; a row without its check index falls back to the whole-report rule until it is indexed from its snapshot', async () => {
+    const s = await readyRun(ctx)
+    const baseline = await issue(s, s.run.id)
+    const retest = (await s.techAgent.post(`/api/equipment/${s.equipment.id}/runs`).send({ templateId: s.template.id }).expect(201)).body.run
+    // The safety items and the oil pressure again; the oil temperature carried over from the baseline.
+    await fillRetest(s.techAgent, retest, { read: { oilPressureRunning: { value: 37, unit: 'psid' } }, carryFields: { oilTempRunning: baseline } })
+    const second = await issue(s, retest.id)
+    const archived = async (): Promise<Record<string, ArchiveItem>> => Object.fromEntries(((await s.repAgent.get('/api/archive').expect(200)).body.items as ArchiveItem[]).map((i) => [i.reportNumber, i]))
+    const words = `Partly superseded: 3 of 4 checks re-tested in ${second}`
+    let items = await archived()
+    expect(items[baseline]).toMatchObject({ supersededBy: null, supersession: { state: 'partly', words, by: [{ reportNumber: second, checks: 3 }] } })
+    expect(items[second].supersession).toMatchObject({ state: 'current', retest: expect.stringContaining(`1 check carried over from ${baseline}.`) })
+    // The handover package's copy of the archive row carries the same.
+    const rep = (await s.repAgent.get('/api/session').expect(200)).body.user as SessionUser
+    expect((await ctx.services.archive.itemsFor(rep, { reportNumbers: [baseline] }))[0].supersession.words).toBe(words)
+
+    // As a report issued before check indexes were kept: unindexed, it is superseded as a whole by any later report.
+    const [{ check_index: kept }] = await ctx.db.query(`SELECT check_index FROM report WHERE report_number = $1`, [baseline])
+    const owner = (sql: string, params?: unknown[]) => asOwner(async (c) => (await c.query(sql, params)).rows, ctx.db)
+    await asOwner(async (c) => {
+      await c.query(`ALTER TABLE report DISABLE TRIGGER report_frozen`)
+      await c.query(`UPDATE report SET check_index = NULL WHERE report_number = $1`, [baseline])
+      await c.query(`ALTER TABLE report ENABLE TRIGGER report_frozen`)
+    }, ctx.db)
+    items = await archived()
+    expect(items[baseline]).toMatchObject({ supersededBy: second, supersession: { state: 'superseded', words: `Superseded by ${second}` } })
+
+    // The migration's backfill indexes it again from its kept snapshot, with the same counting rule.
+    const indexed = await asOwner(async (c) => {
+      await c.query(`ALTER TABLE report DISABLE TRIGGER report_frozen`)
+      try {
+        return await indexReportsFromSnapshots({ query: async (sql, params) => (await c.query(sql, params)).rows })
+      } finally {
+        await c.query(`ALTER TABLE report ENABLE TRIGGER report_frozen`)
+      }
+    }, ctx.db)
+    expect(indexed).toBe(1)
+    expect((await owner(`SELECT check_index FROM report WHERE report_number = $1`, [baseline]))[0].check_index).toEqual(kept)
+    expect((await archived())[baseline].supersession.words).toBe(words)
   }, 120_000)
 
   it('when filters are malformed or name unknown ids, then 400 names the parameter', async () => {

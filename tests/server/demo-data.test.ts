@@ -7,7 +7,7 @@ import request from 'supertest'
 import { ReportQueue } from '../../server/jobs/report-queue'
 import type { ReportRenderer, ReportService } from '../../server/services/report.service'
 import { DEMO_HISTORY, DEMO_PEOPLE, isEmpty, loadDemoData } from '../../server/db/demo-data'
-import { countRunRecord, exceptionsOf, localTime } from '@shared/record'
+import { countRunRecord, exceptionsOf, localTime, type CheckIndex, type RunSupersedes } from '@shared/record'
 import type { RunReview } from '@shared/types/run'
 import { Report } from '../../server/entities'
 import { buildReportView } from '../../server/reports/view-model'
@@ -308,6 +308,54 @@ describe('one count everywhere (shared/record/counting.ts)', () => {
     }
     fs.rmSync(dir, { recursive: true, force: true })
   }, 300_000)
+})
+
+describe('supersession by check in the demo history (shared/record/supersession.ts)', () => {
+  it('when a chiller was re-tested twice, the second citing the first, then the covers, Verify and the archive say which checks each superseded', async () => {
+    const chain = await q<{ id: string; report_number: string; supersedes: RunSupersedes & { words: string | null }; check_index: CheckIndex }>(
+      `SELECT r.id, r.report_number, r.supersedes, r.check_index FROM report r WHERE r.project_code = 'VXH-CUP' AND r.equipment_tag = 'CH-2' ORDER BY r.accepted_at`,
+    )
+    expect(chain).toHaveLength(3)
+    const [base, first, second] = chain
+    // The first report of the machine supersedes nothing and carries nothing over: its cover has no re-test panel.
+    expect(base.supersedes).toMatchObject({ earlier: 0, supersedes: [], carried: [], words: null })
+    // Each re-test was kept, at acceptance, with what it superseded.
+    expect(first.supersedes.supersedes.map((x) => x.reportNumber)).toEqual([base.report_number])
+    // Everything it carried over is on the baseline: performed there, or (the first start) recorded there as done by others.
+    expect(first.supersedes.carried.every((c) => c.reportNumber === base.report_number && c.problem === null && c.citedAs.length === 0)).toBe(true)
+    expect(first.supersedes.carried.map((c) => c.byOthers).sort()).toEqual([false, true])
+    expect(first.supersedes.carried.reduce((n, c) => n + c.checks, 0)).toBe(Object.keys(first.check_index.carried).length)
+    expect(first.supersedes.words).toContain(`where they were recorded as done by others`)
+    // The second re-test cites the first for every carried check; those the first had carried over are cited back to the baseline.
+    expect(new Set(Object.values(second.check_index.carried))).toEqual(new Set([first.report_number]))
+    const back = second.supersedes.carried.find((c) => c.reportNumber === base.report_number)
+    expect(back).toMatchObject({ citedAs: [first.report_number], problem: null })
+    expect(back!.checks).toBeGreaterThan(0)
+    expect(second.supersedes.carried.find((c) => c.reportNumber === first.report_number)?.checks ?? 0).toBeGreaterThan(0)
+    expect(second.supersedes.words).toContain(`carried over from ${base.report_number} (cited as ${first.report_number}, which carried them over in turn)`)
+    // Every demo re-test says something on its cover; every report that carries nothing and has no earlier report, nothing.
+    const all = await q<{ supersedes: RunSupersedes & { words: string | null } }>(`SELECT supersedes FROM report`)
+    for (const r of all) expect(r.supersedes.words === null).toBe(r.supersedes.earlier === 0 && r.supersedes.carried.length === 0)
+
+    for (const r of chain) expect((await services().reports.process(r.id)).status).toBe('ready')
+    const verify = async (n: string) => (await request(ctx.app).get(`/api/verify/${n}`).expect(200)).body.answer
+    const [a, b, c] = [await verify(base.report_number), await verify(first.report_number), await verify(second.report_number)]
+    // The baseline performed checks neither re-test repeated (they carried them over): it is partly superseded, not superseded.
+    expect(a.outcome).toBe('genuine_partly_superseded')
+    expect(a.supersession.by.map((x: { reportNumber: string }) => x.reportNumber)).toEqual([first.report_number, second.report_number])
+    expect(a.headline).toMatch(new RegExp(`^${base.report_number} is an issued report; partly superseded: \\d+ of ${base.check_index.performed.length} checks re-tested in ${first.report_number} and ${second.report_number}$`))
+    expect(b.outcome).toBe('genuine_partly_superseded')
+    expect(c).toMatchObject({ outcome: 'genuine_current', supersession: { state: 'current', performed: second.check_index.performed.length } })
+    expect(c.reasons.join(' ')).toContain(`carried over from ${base.report_number} (cited as ${first.report_number}`)
+
+    // The second re-test's PDF prints its re-test panel (line breaks after a hyphen joined again).
+    const row = await ctx.db.getRepository(Report).findOneByOrFail({ id: second.id })
+    const file = path.join(certDir, 'retest.pdf')
+    fs.writeFileSync(file, await services().reports.pdf(row))
+    const text = execFileSync('pdftotext', [file, '-'], { encoding: 'utf8' }).replace(/\s+/g, ' ').replace(/-\s+/g, '-')
+    // The panel's heading is printed in capitals; its words are those kept with the report at acceptance.
+    expect(text).toContain(`RE-TEST ${second.supersedes.words}`)
+  }, 120_000)
 })
 
 describe('loading as one step', () => {
