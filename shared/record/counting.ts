@@ -83,6 +83,8 @@ export interface CheckResult {
   sectionId: string
   /** null: an optional field left blank, which is not a check. */
   outcome: CheckOutcome | null
+  /** Set for an item of a pre-work safety step (permits, lockout): it belongs to the visit, not to the machine. */
+  safety?: true
   disposition: Disposition | null
   /** Where the disposition comes from: the field, its step, or the reading a computed value depends on. */
   dispositionFrom: 'field' | 'step' | 'input' | null
@@ -172,7 +174,7 @@ export function countRun(
     const { field } = place
     const required = field.required !== false
     const reading = byField.get(fieldId)
-    const base = { fieldId, stepId: place.stepId, sectionId: place.sectionId }
+    const base = { fieldId, stepId: place.stepId, sectionId: place.sectionId, ...(place.step.safety ? { safety: true as const } : {}) }
     const d = own(fieldId)
     let result: CheckResult
     if (d) {

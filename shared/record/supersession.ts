@@ -41,7 +41,14 @@ export function checkIndexOf(count: RunCount): CheckIndex {
   const performed: string[] = []
   const carried: Record<string, string> = {}
   const byOthers: string[] = []
+  let safetyChecks = 0
   for (const r of count.results.values()) {
+    // Pre-work safety items (permits, lockout) are answered afresh on every visit: they say nothing about the
+    // machine, so they neither supersede nor are superseded.
+    if (r.safety) {
+      if (r.outcome !== null) safetyChecks += 1
+      continue
+    }
     if (isPerformed(r.outcome)) performed.push(r.fieldId)
     else if (r.outcome === 'by_others') byOthers.push(r.fieldId)
     else if (r.outcome === 'verified_earlier') {
@@ -49,7 +56,7 @@ export function checkIndexOf(count: RunCount): CheckIndex {
       if (cited) carried[r.fieldId] = cited
     }
   }
-  return { checks: count.totals.checks, performed, carried, byOthers }
+  return { checks: count.totals.checks - safetyChecks, performed, carried, byOthers }
 }
 
 /** An accepted report as supersession reads it. */

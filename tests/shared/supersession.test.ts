@@ -226,3 +226,21 @@ describe('citations and older records', () => {
     expect(supersessionOf(later, [a, later]).state).toBe('current')
   })
 })
+
+describe('pre-work safety items belong to the visit, not to the machine', () => {
+  const withSafety: ChecklistDefinition = {
+    ...definition,
+    sections: [{ ...definition.sections[0], steps: [{ id: 'safety', title: 'Before work starts', safety: true, fields: [{ id: 'permits', label: 'Permits agreed', kind: 'yes_no', required: true, rule: { type: 'yes_no', expected: true } }] }, ...definition.sections[0].steps] }],
+  }
+  const yes = { fieldId: 'permits', evaluation: { verdict: 'pass', answer: true, display: null }, disposition: null }
+  it('a re-test that answers only the safety items supersedes nothing, and the baseline counts its 95 machine checks', () => {
+    const base = checkIndexOf(countRunRecord({ definition: withSafety, readings: { permits: yes, ...Object.fromEntries(Object.values(STEPS).flat().map((f) => [f, reading(f)])) }, steps: {} }))
+    expect(base.checks).toBe(95)
+    expect(base.performed).not.toContain('permits')
+    const carryAll = Object.fromEntries(Object.keys(STEPS).map((s) => [s, { stepId: s, disposition: carried(B) }]))
+    const retest = checkIndexOf(countRunRecord({ definition: withSafety, readings: { permits: yes }, steps: carryAll }))
+    expect(retest.performed).toEqual([])
+    const state = supersessionOf(issued(B, '2024-05-01T12:00:00Z', base), [issued(R1, '2025-05-01T12:00:00Z', retest)])
+    expect(state.state).toBe('current')
+  })
+})
