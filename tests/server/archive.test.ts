@@ -74,13 +74,14 @@ describe('/api/archive', () => {
     const s = await readyRun(ctx)
     const baseline = await issue(s, s.run.id)
     const retest = (await s.techAgent.post(`/api/equipment/${s.equipment.id}/runs`).send({ templateId: s.template.id }).expect(201)).body.run
-    // The safety items and the oil pressure again; the oil temperature carried over from the baseline.
+    // The oil pressure again (the safety items are answered on every visit and count for neither); the oil temperature
+    // carried over from the baseline.
     await fillRetest(s.techAgent, retest, { read: { oilPressureRunning: { value: 37, unit: 'psid' } }, carryFields: { oilTempRunning: baseline } })
     const second = await issue(s, retest.id)
     const archived = async (): Promise<Record<string, ArchiveItem>> => Object.fromEntries(((await s.repAgent.get('/api/archive').expect(200)).body.items as ArchiveItem[]).map((i) => [i.reportNumber, i]))
-    const words = `Partly superseded: 3 of 4 checks re-tested in ${second}`
+    const words = `Partly superseded: 1 of 2 checks re-tested in ${second}`
     let items = await archived()
-    expect(items[baseline]).toMatchObject({ supersededBy: null, supersession: { state: 'partly', words, by: [{ reportNumber: second, checks: 3 }] } })
+    expect(items[baseline]).toMatchObject({ supersededBy: null, supersession: { state: 'partly', words, by: [{ reportNumber: second, checks: 1 }] } })
     expect(items[second].supersession).toMatchObject({ state: 'current', retest: expect.stringContaining(`1 check carried over from ${baseline}.`) })
     // The handover package's copy of the archive row carries the same.
     const rep = (await s.repAgent.get('/api/session').expect(200)).body.user as SessionUser

@@ -88,7 +88,8 @@ describe('/api/verify (public)', () => {
 
   it('when re-tests perform only some checks again, then Verify, the archive, the review before signing and the cover say which and how many', async () => {
     const s = await readyRun(ctx)
-    // The baseline performs 8 checks: the two safety items, the four power checks and the two running oil readings.
+    // The baseline performs 6 checks of the machine: the four power checks and the two running oil readings (the two
+    // pre-work safety items are answered on every visit and neither supersede nor are superseded).
     await s.techAgent.put(`/api/runs/${s.run.id}/steps/power`).send(change({ notApplicable: false, disposition: null }, 1)).expect(200)
     for (const f of POWER) await s.techAgent.put(`/api/runs/${s.run.id}/readings/${f}`).send(change({ entry: yes })).expect(200)
     const baseline = await issueReport(s, s.run.id, services().reports)
@@ -97,11 +98,11 @@ describe('/api/verify (public)', () => {
     const first = (await s.techAgent.post(`/api/equipment/${s.equipment.id}/runs`).send({ templateId: s.template.id }).expect(201)).body.run
     await fill(s.techAgent, first, { read: { oilPressureRunning: { value: 37, unit: 'psid' } }, carrySteps: { power: baseline }, carryFields: { oilTempRunning: baseline } })
     const before = (await s.techAgent.get(`/api/runs/${first.id}/review`).expect(200)).body.review as RunReview
-    const checks = before.counts.checks
-    expect(before.supersession).toMatchObject({ performed: 3, fewPerformed: true, earlier: 1, supersedes: [{ reportNumber: baseline, current: 8, performed: 8, superseded: 3 }] })
+    const checks = before.counts.checks - 2 // less the two pre-work safety items
+    expect(before.supersession).toMatchObject({ performed: 1, fewPerformed: true, earlier: 1, supersedes: [{ reportNumber: baseline, current: 6, performed: 6, superseded: 1 }] })
     expect(before.supersession.lines).toEqual([
-      `This run performs only 3 of its ${checks} checks; the other ${checks - 3} are carried over or set aside.`,
-      `Accepting this run supersedes 3 of 8 checks of ${baseline}; the other 5 stay current there.`,
+      `This run performs only 1 of its ${checks} checks; the other ${checks - 1} are carried over or set aside.`,
+      `Accepting this run supersedes 1 of 6 checks of ${baseline}; the other 5 stay current there.`,
       `5 checks carried over from ${baseline}.`,
     ])
     expect((await sign(s.techAgent, first.id, 'performed_by')).status).toBe(201)
@@ -115,25 +116,25 @@ describe('/api/verify (public)', () => {
     const old = (await request(ctx.app).get(`/api/verify/${baseline}`).expect(200)).body.answer
     expect(old).toMatchObject({
       outcome: 'genuine_partly_superseded',
-      headline: `${baseline} is an issued report; partly superseded: 3 of 8 checks re-tested in ${retest}`,
+      headline: `${baseline} is an issued report; partly superseded: 1 of 6 checks re-tested in ${retest}`,
       supersededBy: null,
-      supersession: { state: 'partly', performed: 8, retested: 3, by: [{ reportNumber: retest, checks: 3 }], words: `Partly superseded: 3 of 8 checks re-tested in ${retest}` },
+      supersession: { state: 'partly', performed: 6, retested: 1, by: [{ reportNumber: retest, checks: 1 }], words: `Partly superseded: 1 of 6 checks re-tested in ${retest}` },
     })
-    expect(old.reasons).toContain(`Later start-ups of CH-7 with the same checklist performed 3 of its 8 checks again (${retest}: 3). For the other 5 it is still the current record.`)
+    expect(old.reasons).toContain(`Later start-ups of CH-7 with the same checklist performed 1 of its 6 checks again (${retest}: 1). For the other 5 it is still the current record.`)
     const newer = (await request(ctx.app).get(`/api/verify/${retest}`).expect(200)).body.answer
-    expect(newer).toMatchObject({ outcome: 'genuine_current', supersession: { state: 'current', performed: 3 } })
-    expect(newer.reasons).toContain(`Re-test: performed 3 of its ${checks} checks. 5 checks carried over from ${baseline}.`)
+    expect(newer).toMatchObject({ outcome: 'genuine_current', supersession: { state: 'current', performed: 1 } })
+    expect(newer.reasons).toContain(`Re-test: performed 1 of its ${checks} checks. 5 checks carried over from ${baseline}.`)
     // The uploaded baseline file gets the same answer.
     const file = await s.repAgent.get(`/api/runs/${s.run.id}/report.pdf`).buffer(true).parse(binary)
-    expect((await check(file.body as Buffer)).body.answer).toMatchObject({ outcome: 'genuine_partly_superseded', headline: `Genuine report ${baseline}; partly superseded: 3 of 8 checks re-tested in ${retest}` })
+    expect((await check(file.body as Buffer)).body.answer).toMatchObject({ outcome: 'genuine_partly_superseded', headline: `Genuine report ${baseline}; partly superseded: 1 of 6 checks re-tested in ${retest}` })
 
     const archive = (await s.repAgent.get('/api/archive').expect(200)).body.items as { reportNumber: string; supersededBy: string | null; supersession: { state: string; words: string; retest: string | null } }[]
-    expect(archive.find((i) => i.reportNumber === baseline)).toMatchObject({ supersededBy: null, supersession: { state: 'partly', words: `Partly superseded: 3 of 8 checks re-tested in ${retest}`, retest: null } })
-    expect(archive.find((i) => i.reportNumber === retest)).toMatchObject({ supersededBy: null, supersession: { state: 'current', retest: `Re-test: performed 3 of its ${checks} checks. 5 checks carried over from ${baseline}.` } })
+    expect(archive.find((i) => i.reportNumber === baseline)).toMatchObject({ supersededBy: null, supersession: { state: 'partly', words: `Partly superseded: 1 of 6 checks re-tested in ${retest}`, retest: null } })
+    expect(archive.find((i) => i.reportNumber === retest)).toMatchObject({ supersededBy: null, supersession: { state: 'current', retest: `Re-test: performed 1 of its ${checks} checks. 5 checks carried over from ${baseline}.` } })
 
     // The re-test's cover says what it superseded, as kept with its report at acceptance.
     const row = await ctx.db.getRepository(Report).findOneByOrFail({ reportNumber: retest })
-    const cover = `This report performs only 3 of its ${checks} checks; the other ${checks - 3} are carried over or set aside. This report supersedes 3 of 8 checks of ${baseline}; the other 5 stay current there. 5 checks carried over from ${baseline}.`
+    const cover = `This report performs only 1 of its ${checks} checks; the other ${checks - 1} are carried over or set aside. This report supersedes 1 of 6 checks of ${baseline}; the other 5 stay current there. 5 checks carried over from ${baseline}.`
     expect(row.supersedes?.words).toBe(cover)
     const input = await services().reports.buildInput(row)
     expect(buildReportView(input).supersedes).toBe(cover)
@@ -148,15 +149,15 @@ describe('/api/verify (public)', () => {
     await fill(s.techAgent, second, { read: Object.fromEntries(POWER.map((f) => [f, yes])), carrySteps: { 'oil-running': retest } })
     const preview = ((await s.techAgent.get(`/api/runs/${second.id}/review`).expect(200)).body.review as RunReview).supersession
     expect(preview.lines).toEqual([
-      `This run performs only 6 of its ${checks} checks; the other ${checks - 6} are carried over or set aside.`,
+      `This run performs only 4 of its ${checks} checks; the other ${checks - 4} are carried over or set aside.`,
       `Accepting this run supersedes 4 of the 5 checks still current in ${baseline}; the other 1 stays current there.`,
-      `Accepting this run supersedes 2 of 3 checks of ${retest}; the other 1 stays current there.`,
       `1 check carried over from ${baseline} (cited as ${retest}, which carried it over in turn).`,
       `1 check carried over from ${retest}.`,
     ])
     const third = await issueReport(s, second.id, services().reports)
-    expect((await request(ctx.app).get(`/api/verify/${baseline}`).expect(200)).body.answer.headline).toBe(`${baseline} is an issued report; partly superseded: 7 of 8 checks re-tested in ${retest} and ${third}`)
-    expect((await request(ctx.app).get(`/api/verify/${retest}`).expect(200)).body.answer.supersession.words).toBe(`Partly superseded: 2 of 3 checks re-tested in ${third}`)
+    expect((await request(ctx.app).get(`/api/verify/${baseline}`).expect(200)).body.answer.headline).toBe(`${baseline} is an issued report; partly superseded: 5 of 6 checks re-tested in ${retest} and ${third}`)
+    // The second re-test repeats the power checks, not the first re-test's oil pressure: that stays current there.
+    expect((await request(ctx.app).get(`/api/verify/${retest}`).expect(200)).body.answer.supersession.words).toBe('Current')
     // What was printed on the first re-test's cover does not change.
     expect((await ctx.db.getRepository(Report).findOneByOrFail({ reportNumber: retest })).supersedes?.words).toBe(cover)
   }, 180_000)
