@@ -763,7 +763,7 @@ export function buildReportView(input: ReportInput): ReportView {
   const handoverTasks = handoverSection ? handoverSection.steps.flatMap((s) => s.fields) : []
   const handoverNotes = handoverSection ? handoverSection.steps.map((s) => s.note).filter(Boolean) : []
   const sections = allSections.filter((s) => s.id !== HANDOVER_SECTION)
-  recommendations.push('Keep this report with the daily logs as the baseline: compare approaches, kW/ton and oil pressure against it.')
+  recommendations.push('Keep this report with the daily logs as the baseline: compare approaches, efficiency and oil pressure against it.')
 
   const signatures = input.signatures.map(signatureView)
   const latest = (meaning: SignatureRecord['meaning']) => [...input.signatures].reverse().find((s) => s.meaning === meaning && !s.voided)

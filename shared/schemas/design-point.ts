@@ -201,7 +201,7 @@ export const DESIGN_POINT_LABELS: Readonly<Record<DesignPointFieldKey, string>> 
   condenserLeavingWaterTemp: 'Condenser leaving water temperature',
   condenserWaterFlow: 'Condenser water flow',
   condenserPressureDrop: 'Condenser water pressure drop',
-  designKwPerTon: 'Full-load efficiency (kW/ton, or COP in SI)',
+  designKwPerTon: 'Full-load efficiency',
   inputPower: 'Input power at design',
   voltage: 'Rated voltage',
   frequency: 'Rated frequency',

@@ -83,6 +83,25 @@ afterAll(async () => {
   fs.rmSync(tmp, { recursive: true, force: true })
 })
 
+describe('an SI report of the same start-up', () => {
+  // COP = 3.516 853 / (kW/ton) (NIST SP 811 App. B.8; docs/REFERENCES.md §Units): the SI reader sees efficiency as COP,
+  // its limit turned into a minimum, and the water-side method and site atmosphere named with the design table.
+  const siHtml = renderReportHtml(sampleReportInput({ unitSystem: 'SI' }))
+  const siText = siHtml.replace(/<[^>]+>/g, ' ').replace(/\s+/g, ' ')
+  it('when the project is SI, then efficiency prints as COP with a minimum, and no kW/ton is left', () => {
+    // 279 kW over 500.4 tons (1759.8 kW of cooling): COP 6.31; design 0.576 kW/ton is COP 6.11, its limit COP 5.81.
+    expect(siText).toMatch(/Efficiency 6\.3\d? COP/)
+    expect(siText).toContain('At least 5.81 COP')
+    expect(siText).toMatch(/not below design ÷ 1\.05/)
+    // The only kW/ton left names the unit the AHRI tolerance is stated on.
+    expect(siText.replace(/is 5 % on kW\/ton/g, '')).not.toMatch(/kW\/ton/)
+  })
+  it('when the project is SI, then the test conditions and the water-side method are printed with the design table', () => {
+    expect(siText).toContain('Water-side heat: flow × density × specific heat × temperature difference, with the properties of water at the mean water temperature (IAPWS-IF97).')
+    expect(siText).toMatch(/Load during the running readings: 100\.1 % of design capacity/)
+  })
+})
+
 describe('handover report PDF', () => {
   it('when rendered, then the text holds the equipment tag, key readings with units, verdict words, findings and both signers', () => {
     expect(text).toContain('CH-2')
