@@ -5,8 +5,9 @@ import puppeteer, { type Browser, type BrowserContext } from 'puppeteer-core'
 
 export const CHROMIUM_PATH = process.env.CHROMIUM_PATH ?? '/usr/bin/chromium'
 
-// STACK.md's proven flags, plus a host resolver that resolves nothing: even a request that escaped the page's
-// interception would find no network.
+// Chromium flags that work headless on this stack without a sandbox or a GPU (the browser tests use the same base
+// set), plus a host resolver that resolves nothing: even a request that escaped the page's interception would find
+// no network.
 const CHROMIUM_ARGS = [
   '--no-sandbox',
   '--disable-gpu',

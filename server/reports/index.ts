@@ -1,4 +1,4 @@
-// The handover report (DESIGN.md §7): HTML from the templates, PDF through a small Chromium pool, PKCS#7 seal.
+// The handover report: HTML from the templates, PDF through a small Chromium pool, PKCS#7 seal.
 export { renderReportHtml, renderReportPdf, renderReportPdfDetailed, renderReport, renderPdfInContext } from './render'
 export type { Paper, PdfOptions, PdfResult } from './render'
 export { createBrowserPool, launchReportBrowser, isBrowserCrash, BrowserPoolClosedError, CHROMIUM_PATH } from './browser-pool'

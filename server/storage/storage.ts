@@ -56,7 +56,7 @@ export interface StoredFile {
   size: number
 }
 
-/** The one storage service (DESIGN.md §8): content-addressed keys, SHA-256 computed on the way in and checked on the way out. */
+/** The one storage service: content-addressed keys, SHA-256 computed on the way in and checked on the way out. */
 export class StorageService {
   constructor(private readonly driver: StorageDriver) {}
 

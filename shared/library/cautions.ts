@@ -1,4 +1,4 @@
-// Cautions shown where the work can hurt someone (DESIGN.md §10). Each names the rule it rests on and defers to the
+// Cautions shown where the work can hurt someone (README.md, "Safety"). Each names the rule it rests on and defers to the
 // manufacturer's instructions, local codes and licensed practice.
 
 export const LOCKOUT =

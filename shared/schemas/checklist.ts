@@ -399,7 +399,7 @@ export const sectionSchema = object({
   steps: array(stepSchema).required('${path} is required').min(1, '${path} needs at least one step'),
 }).exact('${path} has unknown keys: ${properties}')
 
-/** A checklist template version's definition (DESIGN.md §5): sections → steps → fields, with cross-reference checks. */
+/** A checklist template version's definition: sections → steps → fields, with cross-reference checks. */
 export const checklistDefinitionSchema = object({
   title: text().required('${path} is required'),
   /** The system the template is written in: design values inside expressions are given in its units. */

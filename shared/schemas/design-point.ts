@@ -83,7 +83,7 @@ function canonicalOrNull(q: { value?: number; unit?: string } | undefined, kind:
   return toCanonical(q.value, q.unit as string, kind)
 }
 
-/** Equipment design point (DESIGN.md §4): every number carries its unit. */
+/** Equipment design point: every number carries its unit. */
 export const designPointSchema = object({
   refrigerant: string()
     .required('${path} is required')

@@ -1,4 +1,4 @@
-/** The four roles of the product (DESIGN.md §2), in the order screens list them. */
+/** The four roles of the product (README.md, "What each role can do"), in the order screens list them. */
 export const ROLES = ['admin', 'technician', 'owner_rep', 'contractor'] as const
 export type Role = (typeof ROLES)[number]
 

@@ -8,7 +8,7 @@ import type { RecordException } from '../record/exceptions'
 import type { ByOthersItem } from '../record/counting'
 import type { RunSupersedes } from '../record/supersession'
 
-/** DESIGN.md §6: in_progress → submitted (performer signed) → accepted, or returned to the technician. */
+/** A run's states: in_progress → submitted (performer signed) → accepted, or returned to the technician. */
 export type RunState = 'in_progress' | 'submitted' | 'accepted' | 'returned'
 export const EDITABLE_RUN_STATES: readonly RunState[] = ['in_progress', 'returned']
 

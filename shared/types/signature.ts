@@ -1,4 +1,4 @@
-/** DESIGN.md §7 and 21 CFR Part 11 §11.50: a signature states who, in which role, when, and what it means. */
+/** As 21 CFR Part 11 §11.50 asks of a signed record: a signature states who, in which role, when, and what it means. */
 export type SignatureMeaning = 'performed_by' | 'accepted_by'
 
 export interface SignatureRecord {

@@ -8,7 +8,7 @@ import type { ReportSupersession } from '../record/supersession'
  */
 export type VerifyOutcome = 'genuine_current' | 'genuine_partly_superseded' | 'genuine_superseded' | 'altered' | 'unknown'
 
-/** What anyone may learn about a report: DESIGN.md keeps everything else to people with access. */
+/** What anyone may learn about a report: everything else stays with the people who have access to the project. */
 export interface PublicReportFacts {
   reportNumber: string
   equipmentTag: string

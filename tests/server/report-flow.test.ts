@@ -34,7 +34,7 @@ beforeEach(async () => {
 
 async function acceptedRun(c: TestContext) {
   const s = await readyRun(c)
-  // A note that tries markup and a link must print as text and reach nothing (DESIGN.md §7).
+  // A note that tries markup and a link must print as text and reach nothing.
   await s.techAgent
     .put(`/api/runs/${s.run.id}/steps/oil-running`)
     .send({ changeId: crypto.randomUUID(), baseVersion: 0, note: 'Checked <script>alert(1)</script> see http://example.test/x <img src="http://example.test/p.png">' })

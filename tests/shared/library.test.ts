@@ -187,10 +187,10 @@ const CHILLER_CASES: Case[] = [
   ['chwLeaving', { chwLeaving: q(44.8, 'degF') }, 'marginal', 'design 44 °F ±1, marginal beyond ±0.5 [CP]'],
   ['chwLeaving', { chwLeaving: q(45.2, 'degF') }, 'fail', 'design 44 °F ±1 [CP]'],
   ['chwLeaving', { chwLeaving: q(42.9, 'degF') }, 'fail', 'design 44 °F ±1 [CP]'],
-  ['chwFlow', {}, 'pass', 'design 1200 gpm ±10 % (DESIGN.md §5), marginal beyond ±5 % [CP]'],
+  ['chwFlow', {}, 'pass', 'design 1200 gpm ±10 %, marginal beyond ±5 % [CP]'],
   ['chwFlow', { chwFlow: q(1130, 'gpm') }, 'marginal', 'below 1140 gpm (−5 %) [CP]'],
-  ['chwFlow', { chwFlow: q(1070, 'gpm') }, 'fail', 'below 1080 gpm (−10 %) (DESIGN.md §5)'],
-  ['chwFlow', { chwFlow: q(1330, 'gpm') }, 'fail', 'above 1320 gpm (+10 %) (DESIGN.md §5)'],
+  ['chwFlow', { chwFlow: q(1070, 'gpm') }, 'fail', 'below 1080 gpm (−10 %) [CP]'],
+  ['chwFlow', { chwFlow: q(1330, 'gpm') }, 'fail', 'above 1320 gpm (+10 %) [CP]'],
   ['evapSatTemp', {}, 'pass', 'R-134a at 37.0 psig saturates at 42 °F (REFERENCES.md §5 table), above 35 °F [CP]'],
   ['evapSatTemp', { evapPressure: r134a(34) }, 'marginal', '34 °F: above 33, below 35 °F [CP]'],
   ['evapSatTemp', { evapPressure: r134a(30) }, 'fail', '30 °F: below 33 °F with plain water [CP]'],
@@ -398,7 +398,7 @@ describe('starter library: the templates themselves', () => {
       if ((field.rule.type === 'range' || field.rule.type === 'ramp') && !fromDesign) expect(field.help, field.id).toMatch(/common practice/i)
     }
   })
-  it('when the chiller pre-start opens, then the cautions of DESIGN.md §10 are shown and defer to the manufacturer, codes and licensed practice', () => {
+  it('when the chiller pre-start opens, then the safety cautions (README.md, Safety) are shown and defer to the manufacturer, codes and licensed practice', () => {
     const step = chiller.definition.sections[0].steps[0]
     const all = (step.cautions ?? []).join(' ')
     for (const pattern of [/lock out and tag out/i, /arc-flash/i, /certified/i, /never bypass/i, /couplings/i, /manufacturer's start-up instructions, local codes and licensed practice/]) expect(all).toMatch(pattern)

@@ -41,7 +41,7 @@ describe('evaluateField on a range with a warning band (oil pressure 25–60 psi
 })
 
 describe('evaluateField on design-relative rules', () => {
-  // Flow within ±10 % of design: DESIGN.md §5; design flow 1200 gpm (2.4 gpm/ton × 500 tons, AHRI 550/590 [S])
+  // Flow within ±10 % of design (common practice); design flow 1200 gpm (2.4 gpm/ton × 500 tons, AHRI 550/590 [S])
   it.each([
     [1050, 'fail', 'Evaporator water flow 1050 gpm is below the minimum 1080 gpm (design 1200 gpm, −10 % to +10 %)'],
     [1100, 'marginal', 'Evaporator water flow 1100 gpm is within limits but below the warning level 1140 gpm (minimum 1080 gpm; design 1200 gpm, −10 % to +10 %)'],
