@@ -10,6 +10,7 @@ import type { FindingSummary, RunReading } from '@shared/types/run'
 import { convert, convertDifference, displayUnit, distinguishingDecimals, formatNumber, formatQuantity, fromCanonical, signedText, unitLabel, unitSpec, type QuantityKind, type UnitSystem } from '@shared/units'
 // The design-point rows the equipment pages show, in the project's units (pure functions; no Vue inside).
 import { designPointRows, designPointUnit } from '@shared/format/design-point'
+import { deviationText } from '@shared/format/deviation'
 
 /** A verdict as printed: its key (for the shape) and its word. */
 export interface VerdictView {
@@ -460,7 +461,7 @@ function testConditions(ctx: Context): string[] {
     const measured = [...ctx.fields.values()].find(({ field }) => field.siteBarometric)
     const own = measured ? answered(measured.field.id) : null
     const site = siteBarometric(ctx.input.project)
-    const kpa = (v: number) => `${formatNumber(v, 1)} kPa (${formatNumber(v / 3.386389, 2)} inHg)`
+    const kpa = (v: number) => `${formatNumber(v, 1)} kPa (${formatNumber(convert(v, 'kPaa', 'inHgAbs', 'pressure_absolute'), 2)} inHg)`
     out.push(
       own
         ? `Gauge and vacuum pressures converted to absolute with the barometric pressure read on site, ${valueText(own.field, own.reading, ctx.system)}.`
@@ -515,15 +516,7 @@ function designRows(ctx: Context): DesignRowView[] {
       } else if (canonicalValue) {
         const measured = fromCanonical(canonicalValue.value, row.unit, kind)
         measuredText = formatQuantity(measured, row.unit, kind)
-        const design = row.value as number
-        if (kind === 'temperature') {
-          const diffUnit = displayUnit('temperature_difference', ctx.system)
-          const diff = measured - design
-          deviation = `${diff > 0 ? '+' : diff < 0 ? '−' : ''}${formatNumber(Math.abs(diff), 1)} ${unitLabel('temperature_difference', diffUnit)}`
-        } else if (design !== 0) {
-          const pct = ((measured - design) / Math.abs(design)) * 100
-          deviation = `${pct > 0 ? '+' : pct < 0 ? '−' : ''}${formatNumber(Math.abs(pct), 1)} %`
-        }
+        deviation = deviationText(measured, row.value as number, kind, row.unit) ?? '—'
       }
       out.push({
         designLabel: i === 0 ? row.label : '',

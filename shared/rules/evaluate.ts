@@ -19,6 +19,7 @@ import {
   type UnitSystem,
 } from '../units/quantities'
 import { parseExpression } from './expression'
+import { deviationText } from '../format/deviation'
 import { problemInProjectUnits } from './problem-units'
 import { judgeRamp, type RampJudgement } from './series'
 import { classify, type LimitSet, type Verdict } from './verdict'
@@ -87,6 +88,18 @@ function fieldIndex(definition: ChecklistDefinition): Map<string, ChecklistField
     fieldIndexCache.set(definition, index)
   }
   return index
+}
+
+const siteFieldCache = new WeakMap<ChecklistDefinition, ChecklistField | null>()
+
+/** The definition's field that records the site's barometric pressure on the day, if it has one (looked up once). */
+function siteBarometricField(definition: ChecklistDefinition): ChecklistField | null {
+  let field = siteFieldCache.get(definition)
+  if (field === undefined) {
+    field = [...fieldIndex(definition).values()].find((f) => f.siteBarometric) ?? null
+    siteFieldCache.set(definition, field)
+  }
+  return field
 }
 
 function quantityOf(field: ChecklistField): { kind: QuantityKind; unit: string } {
@@ -360,14 +373,11 @@ function computeValue(field: ChecklistField, context: EvaluationContext, trail: 
  * `siteBarometric`), else the project's site value, else undefined (the standard sea-level atmosphere).
  */
 export function siteAtmosphereKpa(context: Pick<EvaluationContext, 'definition' | 'readings' | 'siteBarometricKpa'>): number | undefined {
-  if (context.definition) {
-    for (const f of fieldIndex(context.definition).values()) {
-      if (!f.siteBarometric) continue
-      const entry = context.readings?.[f.id]
-      if (isEmpty(entry)) break
-      const e = numberEntry(f, entry as FieldEntry)
-      return requireBarometricKpa(convert(e.value, e.unit, 'kPaa', 'pressure_absolute'))
-    }
+  const f = context.definition ? siteBarometricField(context.definition) : null
+  const entry = f ? context.readings?.[f.id] : null
+  if (f && !isEmpty(entry)) {
+    const e = numberEntry(f, entry as FieldEntry)
+    return requireBarometricKpa(convert(e.value, e.unit, 'kPaa', 'pressure_absolute'))
   }
   return typeof context.siteBarometricKpa === 'number' ? context.siteBarometricKpa : undefined
 }
@@ -394,16 +404,8 @@ function deviationWords(field: ChecklistField, valueInFieldUnit: number, context
   if (!rule || (rule.type !== 'design_reference' && rule.type !== 'rated_at_load')) return ''
   const { kind, unit } = quantityOf(field)
   const d = designValue(context, rule.key as DesignPointKey, unit, kind)
-  const sign = (v: number) => (v > 0 ? '+' : '')
-  if (kind === 'temperature') {
-    const diffKind = 'temperature_difference'
-    const diffUnit = shown === 'degC' ? 'K' : shown === 'K' ? 'K' : 'deltaF'
-    const delta = convertDifference(valueInFieldUnit - d, unit === 'degC' ? 'K' : unit === 'K' ? 'K' : 'deltaF', diffUnit, diffKind)
-    return `, ${sign(delta)}${fmtIn(delta, diffUnit, diffKind)}`
-  }
-  if (d === 0) return ''
-  const pct = ((valueInFieldUnit - d) / Math.abs(d)) * 100
-  return `, ${sign(pct)}${formatNumber(pct, 1)} %`
+  const text = deviationText(convert(valueInFieldUnit, unit, shown, kind), convert(d, unit, shown, kind), kind, shown)
+  return text ? `, ${text}` : ''
 }
 
 /** The drive start marked in the capture a timer takes its value from (`fromDriveStart`), when it has one. */
@@ -480,9 +482,9 @@ function evaluateNumber(field: ChecklistField, entry: FieldEntry | null | undefi
     }
   }
   const canonicalLimits = mapLimits(resolved.limits, (v) => toCanonical(v, unit, kind))
-  // A unit that runs the other way (COP against kW/ton, inches of vacuum against gauge pressure): limits swap sides.
+  // A unit that runs the other way (COP against kW/ton, inches of vacuum against gauge pressure): a maximum becomes a
+  // minimum, so the limits and the breached side swap.
   const reciprocal = isReciprocalUnit(kind, shown) || unitSpec(kind, shown).sign === -1
-  // In a reciprocal unit (COP from kW/ton) a maximum becomes a minimum: limits and the breached side swap.
   const displayLimits = reciprocal ? swapSides(mapLimits(resolved.limits, (v) => convert(v, unit, shown, kind))) : mapLimits(resolved.limits, (v) => convert(v, unit, shown, kind))
   const judged = classify(canonicalValue, canonicalLimits)
   const c = reciprocal && judged.breached ? { ...judged, breached: SWAPPED[judged.breached] } : judged
