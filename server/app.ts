@@ -22,16 +22,22 @@ import { templateRoutes } from './routes/template.routes'
 import { SESSION_COOKIE, sessionRoutes } from './routes/session.routes'
 import { userRoutes } from './routes/user.routes'
 import { createAppServices, type AppServices } from './services'
+import { throttleTouch } from './middleware/session-touch'
 
 export interface AppDeps {
   config: Config
   db: DataSource
   /** Built from the configuration when not given (index.ts and the tests pass the ones they also start or inspect). */
   services?: AppServices
+  /**
+   * The session store's own pool (server/index.ts makes one of SESSION_POOL_SIZE), so signing in and the once-a-minute
+   * touch never wait behind request transactions for the last connection; tests leave it out and share the app's pool.
+   */
+  sessionPool?: Pool
 }
 
 /** Builds the Express app from its services: middleware, routes, client, errors. No listening and no connecting here. */
-export function createApp({ config, db, services = createAppServices(config, db) }: AppDeps): Express {
+export function createApp({ config, db, services = createAppServices(config, db), sessionPool }: AppDeps): Express {
   const app = express()
   app.disable('x-powered-by')
   app.set('trust proxy', config.TRUST_PROXY === 'false' ? false : config.TRUST_PROXY)
@@ -42,8 +48,8 @@ export function createApp({ config, db, services = createAppServices(config, db)
   const closeoutRouters = closeoutRoutes(config, closeout, projects)
   const passport = createPassport(users)
   const PgStore = connectPgSimple(session)
-  // The sessions share TypeORM's pg pool: one pool per process, and it reconnects by itself after an outage.
-  const pool = (db.driver as unknown as { master: Pool }).master
+  // Without a pool of their own, the sessions share TypeORM's pg pool (it reconnects by itself after an outage).
+  const pool = sessionPool ?? (db.driver as unknown as { master: Pool }).master
 
   app.use(
     helmet({
@@ -67,10 +73,11 @@ export function createApp({ config, db, services = createAppServices(config, db)
   api.use(
     session({
       name: SESSION_COOKIE,
-      store: new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60 }),
+      store: throttleTouch(new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60 })),
       secret: config.SESSION_SECRET!,
       resave: false,
       saveUninitialized: false,
+      // The cookie slides on every answer; the stored expiry is written at most once a minute (throttleTouch).
       rolling: true,
       cookie: {
         httpOnly: true,

@@ -76,6 +76,16 @@ const configSchema = yup.object({
     .typeError('LOGIN_RATE_WINDOW_MINUTES must be a number')
     .positive()
     .default(15),
+  /** Connections of each process's request pool; the session store has its own (SESSION_POOL_SIZE). */
+  DB_POOL_SIZE: yup.number().typeError('DB_POOL_SIZE must be a number').integer('DB_POOL_SIZE must be a whole number').min(2, 'DB_POOL_SIZE must be at least 2').max(200).default(10),
+  /** How long a request waits for a free connection before it is answered 503 with Retry-After (overload is shed, not queued for ever). */
+  DB_POOL_WAIT_MS: yup.number().typeError('DB_POOL_WAIT_MS must be a number').integer().min(100).max(120_000).default(5000),
+  /** PostgreSQL statement_timeout of the request pool: no single statement holds a connection longer. */
+  DB_STATEMENT_TIMEOUT_MS: yup.number().typeError('DB_STATEMENT_TIMEOUT_MS must be a number').integer().min(100).max(3_600_000).default(30_000),
+  /** PostgreSQL idle_in_transaction_session_timeout: a transaction left open by a stuck request is ended by the server. */
+  DB_IDLE_IN_TRANSACTION_TIMEOUT_MS: yup.number().typeError('DB_IDLE_IN_TRANSACTION_TIMEOUT_MS must be a number').integer().min(100).max(3_600_000).default(15_000),
+  /** Connections of the session store's own pool, so signing in never waits behind request transactions. */
+  SESSION_POOL_SIZE: yup.number().typeError('SESSION_POOL_SIZE must be a number').integer().min(1).max(50).default(2),
   CLIENT_DIST: yup.string().default('dist/client'),
   STORAGE_DIR: yup.string().default('data/files'),
   UPLOAD_MAX_MB: yup.number().typeError('UPLOAD_MAX_MB must be a number').positive().max(100).default(15),

@@ -1,7 +1,7 @@
 import type { Server } from 'node:http'
 import { ConfigError, loadConfig, type Config } from './config'
 import { createApp } from './app'
-import { createDataSource } from './db/data-source'
+import { createDataSource, createSessionPool, requestPoolOptions } from './db/data-source'
 import { migrateDatabase, migrationTarget } from './db/migrate'
 import { ensureStarterLibrary } from './services/starter-library'
 import { createAppServices } from './services'
@@ -14,7 +14,7 @@ export interface RunningServer {
 
 /** Runs pending migrations as the owner, connects to PostgreSQL as the application and listens; resolves once it accepts requests. */
 export async function startServer(config: Config): Promise<RunningServer> {
-  const db = createDataSource(config.DATABASE_URL)
+  const db = createDataSource(config.DATABASE_URL, requestPoolOptions(config))
   try {
     await db.initialize()
   } catch (err) {
@@ -30,7 +30,8 @@ export async function startServer(config: Config): Promise<RunningServer> {
   const added = await ensureStarterLibrary(db)
   if (added) console.log(`Added ${added} starter template${added === 1 ? '' : 's'} to the library`)
   const services = createAppServices(config, db)
-  const app = createApp({ config, db, services })
+  const sessionPool = createSessionPool(config)
+  const app = createApp({ config, db, services, sessionPool })
   const { mail, reports, renderer, queue } = services
   mail.startWorker()
   const seal = await renderer.prepare()
@@ -53,6 +54,7 @@ export async function startServer(config: Config): Promise<RunningServer> {
       await queue.stop()
       await renderer.close()
       await mail.stop()
+      await sessionPool.end()
       await db.destroy()
     },
   }

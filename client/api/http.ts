@@ -9,6 +9,8 @@ export class ApiError extends Error {
     readonly fields: Record<string, string> = {},
     /** The other top-level members of the error answer, e.g. `current` of a 409 `edit_conflict`, `runs` of `affects_signed_runs`. */
     readonly details: Record<string, unknown> = {},
+    /** How long the server asked to wait before trying again (`Retry-After` of a 503 or 429), in milliseconds. */
+    readonly retryAfterMs: number | null = null,
   ) {
     super(message)
     this.name = 'ApiError'
@@ -140,6 +142,15 @@ export function saveFile(file: DownloadedFile) {
   setTimeout(() => URL.revokeObjectURL(href), 60_000)
 }
 
+/** `Retry-After` in milliseconds: delay-seconds or an HTTP date (RFC 9110 §10.2.3); null when absent or unreadable. */
+export function retryAfterMs(header: string | null, now = Date.now()): number | null {
+  if (!header) return null
+  const trimmed = header.trim()
+  if (/^\d+$/.test(trimmed)) return Number(trimmed) * 1000
+  const at = Date.parse(trimmed)
+  return Number.isFinite(at) ? Math.max(0, at - now) : null
+}
+
 async function send<T>(method: Method, url: string, init: { headers: Record<string, string>; body?: BodyInit }): Promise<T> {
   let res: Response
   try {
@@ -158,7 +169,7 @@ async function send<T>(method: Method, url: string, init: { headers: Record<stri
   if (!res.ok) {
     const { error: err, ...details } = (data && typeof data === 'object' ? data : {}) as { error?: ApiErrorBody } & Record<string, unknown>
     if (res.status === 401 && err?.code === 'not_signed_in' && url !== '/session') unauthenticatedHandler?.(url)
-    throw new ApiError(res.status, err?.code ?? 'http_' + res.status, err?.message ?? `The server answered ${res.status} ${res.statusText}`, err?.fields, details)
+    throw new ApiError(res.status, err?.code ?? 'http_' + res.status, err?.message ?? `The server answered ${res.status} ${res.statusText}`, err?.fields, details, retryAfterMs(res.headers.get('Retry-After')))
   }
   return data as T
 }

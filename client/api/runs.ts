@@ -11,7 +11,7 @@ import type {
 } from '@shared/types/run'
 import type { ApiErrorBody } from '@shared/types/api'
 import type { FindingCreateInput, FindingUpdateInput, ReadingChangeInput, StepChangeInput } from '@shared/schemas/run'
-import { ApiError, http } from './http'
+import { ApiError, http, retryAfterMs } from './http'
 
 /** An API error that keeps the whole answer: a 409 conflict carries what is on the server now in `current`. */
 export class RunApiError extends ApiError {
@@ -21,8 +21,9 @@ export class RunApiError extends ApiError {
     message: string,
     fields: Record<string, string>,
     readonly current: RunReading | RunStepState | null,
+    retryAfter: number | null = null,
   ) {
-    super(status, code, message, fields)
+    super(status, code, message, fields, {}, retryAfter)
     this.name = 'RunApiError'
   }
 }
@@ -52,6 +53,7 @@ async function send<T>(method: 'PUT' | 'POST', url: string, body: BodyInit, head
       err?.message ?? `The server answered ${res.status} ${res.statusText}`,
       err?.fields ?? {},
       parsed?.current ?? null,
+      retryAfterMs(res.headers.get('Retry-After')),
     )
   }
   return data as T

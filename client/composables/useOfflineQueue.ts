@@ -520,9 +520,10 @@ export function useOfflineQueue(options: OfflineQueueOptions) {
         const verdict = classifyFailure(err)
         if (verdict === 'retry') {
           failures += 1
-          const delay = Math.min(maxBackoffMs, backoffMs * 2 ** (failures - 1))
-          retryAt = now() + delay
           const e = err instanceof ApiError ? err : null
+          // A busy server says when to come back (503 + Retry-After); the change stays queued until then.
+          const delay = Math.max(Math.min(maxBackoffMs, backoffMs * 2 ** (failures - 1)), e?.retryAfterMs ?? 0)
+          retryAt = now() + delay
           status.value = !e || e.status === 0 ? 'offline' : e.status === 401 ? 'signed_out' : 'failing'
           lastError.value = err instanceof Error ? err.message : String(err)
           schedule(delay)
@@ -683,7 +684,7 @@ async function keepSnapshotCurrent(storage: QueueStorage, ownerId: string, chang
   if (!run || !response) return
   if (change.kind === 'reading') {
     const saved = response as ReadingSaved
-    run.readings = saved.readings
+    run.readings = { ...run.readings, ...saved.readings, [saved.reading.fieldId]: saved.reading }
     run.progress = saved.progress
   } else {
     const step = (response as { step: RunStepState }).step

@@ -313,7 +313,8 @@ export const useRunStore = defineStore('run', () => {
 
   function applyReadingSaved(change: QueuedChange, res: ReadingSaved) {
     if (!run.value) return
-    run.value.readings = adoptReadings(res.readings)
+    // The answer carries the saved reading and those whose verdict followed it; the rest are as they were.
+    run.value.readings = { ...run.value.readings, ...adoptReadings({ ...res.readings, [res.reading.fieldId]: res.reading }) }
     run.value.progress = res.progress
     const left = queue.value?.changesFor('reading', change.targetId).length ?? 0
     const mine = local.value[change.targetId]

@@ -1,17 +1,29 @@
 import type { ErrorRequestHandler, RequestHandler } from 'express'
 import { randomUUID } from 'node:crypto'
 import { AppError } from './app-error'
-import { isDatabaseUnavailable } from './database-errors'
+import { isDatabaseUnavailable, isOverloaded } from './database-errors'
 
 export const notFoundHandler: RequestHandler = (req, _res, next) => {
   next(new AppError('not_found', `No API route for ${req.method} ${req.path}`, 404))
 }
+
+/** Seconds a client is asked to wait after a 503 busy. */
+export const BUSY_RETRY_AFTER_SECONDS = 2
 
 /** The one place errors become responses: `{ error: { code, message, fields? } }`. */
 export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   if (res.headersSent) return
   if (err instanceof AppError) {
     res.status(err.status).json({ error: err.toBody(), ...err.extra })
+    return
+  }
+  if (isOverloaded(err)) {
+    res.status(503).set('Retry-After', String(BUSY_RETRY_AFTER_SECONDS)).json({
+      error: {
+        code: 'busy',
+        message: 'Startproof is busy right now, so nothing was saved. Try again in a moment; changes kept on a tablet are sent again by themselves.',
+      },
+    })
     return
   }
   if (isDatabaseUnavailable(err)) {

@@ -20,6 +20,7 @@ export function evaluateAll(
   ctx: { definition: ChecklistDefinition; equipment: Pick<Equipment, 'designPoint'>; project: Pick<Project, 'unitSystem'> & Partial<Pick<Project, 'siteElevationM' | 'barometricKpa'>> },
   readings: Pick<Reading, 'fieldId' | 'entry' | 'notApplicable'>[],
   naSteps: ReadonlySet<string>,
+  only?: ReadonlySet<string>,
 ): Record<string, FieldEvaluation> {
   const places = fieldPlaces(ctx.definition)
   const entries: Record<string, FieldEntry | null> = {}
@@ -32,7 +33,7 @@ export function evaluateAll(
     designPoint: ctx.equipment.designPoint as unknown as AnyDesignPoint,
     unitSystem: ctx.project.unitSystem,
     siteBarometricKpa: siteBarometric(ctx.project).kpa,
-  })
+  }, only)
 }
 
 export const sha256Hex = (text: string) => createHash('sha256').update(text).digest('hex')

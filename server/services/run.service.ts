@@ -5,7 +5,7 @@ import * as yup from 'yup'
 import type { ChecklistDefinition } from '@shared/schemas/checklist'
 import { describeDisposition, dispositionOf, fieldPlaces, runDetailFromSnapshot, safetyStop, signatureRecord } from '@shared/record'
 import { entrySchemaFor, type FieldEntry } from '@shared/schemas/reading'
-import { physicalBoundsProblem } from '@shared/rules'
+import { dependentFields, physicalBoundsProblem } from '@shared/rules'
 import { requestedDisposition, type ReadingChangeInput, type StepChangeInput } from '@shared/schemas/run'
 import type { SessionUser } from '@shared/types/api'
 import {
@@ -23,6 +23,7 @@ import { fieldErrors } from '../middleware/validate'
 import { recordAudit } from './audit.service'
 import { attachmentViews, countRows, displayNames, evaluateAll, findingViews, keptSnapshot, MissingSnapshotError, readingView, signedSnapshotHash, stepView } from './run-record'
 import { systemClock, type Clock } from './clock'
+import { lockedRunForChange, readingRows, recordChange, rejudged, writeReadings } from './run-save'
 import type { ProjectService } from './project.service'
 
 /** Everything a run is judged with: the pinned definition, the equipment's design point and the project's units. */
@@ -46,6 +47,9 @@ export class RunService {
     private readonly projects: ProjectService,
     private readonly clock: Clock = systemClock,
   ) {}
+
+  /** Definitions of pinned checklist versions by version id (a published version is frozen by the database). */
+  private readonly definitions = new Map<string, ChecklistDefinition>()
 
   private names(ids: (string | null)[]): Promise<Map<string, string>> {
     return displayNames(this.db.manager, ids)
@@ -74,10 +78,10 @@ export class RunService {
   }
 
   /** Only technicians on the run's project change it, and only while it is in progress or returned. */
-  private assertCanEdit(user: SessionUser, ctx: RunContext) {
+  private assertCanEdit(user: SessionUser, state: RunState) {
     if (user.role !== 'technician') throw AppError.forbidden('Only a commissioning technician on this project can change a run')
-    if (!EDITABLE_RUN_STATES.includes(ctx.run.state)) {
-      throw new AppError('run_locked', `This run is ${ctx.run.state.replace('_', ' ')} and can no longer be changed`, 409)
+    if (!EDITABLE_RUN_STATES.includes(state)) {
+      throw new AppError('run_locked', `This run is ${state.replace('_', ' ')} and can no longer be changed`, 409)
     }
   }
 
@@ -267,16 +271,35 @@ export class RunService {
     }
   }
 
-  /** Saves one field's entry (or its not-applicable state), re-judges every field, and records the change. */
+  /**
+   * Saves one field's entry (or its not-applicable state), re-judges the fields that depend on it, and records the
+   * change, in one short transaction of a fixed handful of statements on one connection: the locked run with what it
+   * is judged by (and whether this change id was applied before), its readings, one UPDATE of every reading whose
+   * value or verdict changed, and one statement for the change id, the audit event and the run's time. The answer
+   * carries the changed readings and the new progress only.
+   */
   async setReading(user: SessionUser, runId: string, fieldId: string, input: ReadingChangeInput): Promise<ReadingSaved> {
-    const outcome = await this.db.transaction(async (tx) => {
-      const ctx = await this.context(user, runId, tx, true)
+    return this.db.transaction(async (tx) => {
+      const row = await lockedRunForChange(tx, user, runId, { changeId: input.changeId, target: 'reading', targetId: fieldId })
+      if (!row || !row.allowed || !this.mayRead(user, row.state)) throw AppError.notFound('Run')
       assertAuthor(user, input.authorId)
-      if (await tx.getRepository(RunChange).existsBy({ id: input.changeId, runId, target: 'reading', targetId: fieldId })) return { duplicate: true }
-      this.assertCanEdit(user, ctx)
-      const place = fieldPlaces(ctx.definition).get(fieldId)
-      if (!place) {
-        throw new AppError('unknown_field', `There is no field ${fieldId} in version ${ctx.version.number} of ${ctx.template.name}`, 400, { [fieldId]: 'Not a field of this run’s checklist version' })
+      const definition = await this.definitionOf(tx, row.template_version_id)
+      const naStepRows = row.na_steps as { stepId: string; disposition: unknown; notApplicable: boolean; naReason: string | null }[]
+      const naSteps = new Set(naStepRows.map((st) => st.stepId))
+      const readings = await readingRows(tx, runId)
+      const current = readings.find((r) => r.fieldId === fieldId)
+      const names = new Map<string, string>(readings.filter((r) => r.updatedBy && r.updatedByName).map((r) => [r.updatedBy!, r.updatedByName!]))
+      const answer = (changed: Reading[]): ReadingSaved => ({
+        reading: readingView(current!, names),
+        readings: Object.fromEntries(changed.map((r) => [r.fieldId, readingView(r, names)])),
+        progress: countRows(definition, readings, naStepRows as unknown as RunStep[]).totals,
+        duplicate: false,
+      })
+      if (row.duplicate && current) return { ...answer([current]), duplicate: true }
+      this.assertCanEdit(user, row.state)
+      const place = fieldPlaces(definition).get(fieldId)
+      if (!place || !current) {
+        throw new AppError('unknown_field', `There is no field ${fieldId} in version ${row.version_number} of ${row.template_name}`, 400, { [fieldId]: 'Not a field of this run’s checklist version' })
       }
       const { field } = place
       const disposition = requestedDisposition(input)
@@ -284,7 +307,7 @@ export class RunService {
         throw new AppError('safety_item', `${field.label} is a pre-work safety item: answer it; it cannot be set aside`, 400, { disposition: 'A pre-work safety item cannot be set aside', [fieldId]: 'Answer this safety item' })
       }
       if (!place.step.safety) {
-        const stop = safetyStop(ctx.definition, Object.fromEntries((await tx.getRepository(Reading).find({ where: { runId }, select: { fieldId: true, verdict: true } })).map((r) => [r.fieldId, r])))
+        const stop = safetyStop(definition, Object.fromEntries(readings.map((r) => [r.fieldId, r])))
         if (stop) throw new AppError('run_stopped', stop.message, 409, { [fieldId]: stop.message })
       }
       if (field.computed && input.entry !== null) {
@@ -303,8 +326,6 @@ export class RunService {
         if (impossible) throw new AppError('invalid_reading', impossible, 400, { [fieldId]: impossible })
         if (field.kind === 'photo') await assertOwnPhotos(tx, runId, place.stepId, fieldId, field.label, entry)
       }
-      const repo = tx.getRepository(Reading)
-      const current = await repo.findOneByOrFail({ runId, fieldId })
       const next = {
         entry: disposition ? null : (entry as Record<string, unknown> | null),
         disposition,
@@ -317,7 +338,7 @@ export class RunService {
         next,
       )
       if (current.version !== input.baseVersion && !unchanged) {
-        const [view] = Object.values(await this.readingViews([current]))
+        const view = readingView(current, names)
         const who = view.updatedByName ?? 'Someone'
         const when = current.updatedAt ? ` at ${current.updatedAt.toISOString().slice(11, 16)} UTC` : ''
         throw new AppError(
@@ -332,33 +353,37 @@ export class RunService {
       const now = this.clock()
       if (!unchanged) {
         Object.assign(current, next, { version: current.version + 1, updatedBy: user.id, updatedAt: now })
-        await repo.save(current)
+        names.set(user.id, user.displayName)
       }
-      const readings = await repo.findBy({ runId })
-      const naSteps = new Set((await tx.getRepository(RunStep).findBy({ runId, notApplicable: true })).map((s) => s.stepId))
-      await this.rejudge(tx, ctx, readings, naSteps)
-      await tx.getRepository(RunChange).insert({ id: input.changeId, runId, target: 'reading', targetId: fieldId, userId: user.id, appliedAt: now })
-      if (!unchanged) {
-        const saved = readings.find((r) => r.fieldId === fieldId)!
-        await recordAudit(tx, {
-          actorId: user.id,
-          action: 'reading.set',
-          entityType: 'reading',
-          entityId: `${runId}/${fieldId}`,
-          projectId: ctx.run.projectId,
-          before,
-          after: { entry: saved.entry, disposition: saved.disposition, justification: saved.justification, verdict: saved.verdict },
-          occurredAt: now,
-        })
-        await tx.query(`UPDATE run SET updated_at = $2 WHERE id = $1`, [runId, now])
-      }
-      return { duplicate: false }
+      // Only the fields that read this one can change verdict (shared/rules/dependencies.ts).
+      const changed = rejudged({ definition, equipment: { designPoint: row.design_point }, project: row.project }, readings, naSteps, dependentFields(definition, fieldId))
+      if (!unchanged && !changed.includes(current)) changed.unshift(current)
+      await writeReadings(tx, runId, changed, unchanged ? null : fieldId)
+      const audit = unchanged
+        ? null
+        : {
+            actorId: user.id,
+            action: 'reading.set',
+            entityType: 'reading',
+            entityId: `${runId}/${fieldId}`,
+            projectId: row.project_id,
+            before,
+            after: { entry: current.entry, disposition: current.disposition, justification: current.justification, verdict: current.verdict },
+            occurredAt: now,
+          }
+      await recordChange(tx, { changeId: input.changeId, runId, target: 'reading', targetId: fieldId, userId: user.id, at: now }, audit)
+      return answer(changed.length ? changed : [current])
     })
-    const detail = await this.db.getRepository(Reading).findBy({ runId })
-    const views = await this.readingViews(detail)
-    const ctx = await this.context(user, runId)
-    const steps = await this.db.getRepository(RunStep).findBy({ runId })
-    return { reading: views[fieldId], readings: views, progress: countRows(ctx.definition, detail, steps).totals, duplicate: outcome.duplicate }
+  }
+
+  /** A pinned (published, never changing) checklist version's definition, read once per process. */
+  private async definitionOf(manager: EntityManager, versionId: string): Promise<ChecklistDefinition> {
+    const known = this.definitions.get(versionId)
+    if (known) return known
+    const [found] = (await manager.query(`SELECT definition FROM template_version WHERE id = $1`, [versionId])) as { definition: ChecklistDefinition }[]
+    if (this.definitions.size >= 200) this.definitions.delete(this.definitions.keys().next().value as string)
+    this.definitions.set(versionId, found.definition)
+    return found.definition
   }
 
   /** Re-evaluates every field and stores the verdicts that changed (computed fields follow their inputs). */
@@ -379,7 +404,7 @@ export class RunService {
       const ctx = await this.context(user, runId, tx, true)
       assertAuthor(user, input.authorId)
       if (await tx.getRepository(RunChange).existsBy({ id: input.changeId, runId, target: 'step', targetId: stepId })) return
-      this.assertCanEdit(user, ctx)
+      this.assertCanEdit(user, ctx.run.state)
       const repo = tx.getRepository(RunStep)
       const step = await repo.findOneBy({ runId, stepId })
       if (!step) throw new AppError('unknown_step', `There is no step ${stepId} in this run’s checklist`, 400, { [stepId]: 'Not a step of this run’s checklist version' })

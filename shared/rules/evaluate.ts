@@ -613,12 +613,17 @@ export function evaluateField(field: ChecklistField, entry: FieldEntry | null | 
   }
 }
 
-/** Every field of a checklist evaluated against the run's readings, by field id. */
-export function evaluateChecklist(definition: ChecklistDefinition, context: Omit<EvaluationContext, 'definition'>): Record<string, FieldEvaluation> {
+/**
+ * Every field of a checklist evaluated against the run's readings, by field id; with `only`, just those fields (the
+ * dependents of a changed one, shared/rules/dependencies.ts), each judged exactly as in the full evaluation.
+ */
+export function evaluateChecklist(definition: ChecklistDefinition, context: Omit<EvaluationContext, 'definition'>, only?: ReadonlySet<string>): Record<string, FieldEvaluation> {
   const out: Record<string, FieldEvaluation> = {}
   const full = { ...context, definition }
   for (const section of definition.sections) {
-    for (const step of section.steps) for (const field of step.fields) out[field.id] = evaluateField(field, context.readings?.[field.id], full)
+    for (const step of section.steps) {
+      for (const field of step.fields) if (!only || only.has(field.id)) out[field.id] = evaluateField(field, context.readings?.[field.id], full)
+    }
   }
   return out
 }

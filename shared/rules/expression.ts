@@ -77,8 +77,24 @@ function invalid(source: string, why: string): EngineeringError {
   return new EngineeringError('INVALID_EXPRESSION', `Expression "${source}": ${why}`, { expression: source })
 }
 
-/** The expression parsed by mathjs and checked against a whitelist of node types, operators and functions. */
+const parsedCache = new Map<string, ParsedExpression>()
+const PARSED_CACHE_LIMIT = 2000
+
+/**
+ * The expression parsed by mathjs and checked against a whitelist of node types, operators and functions. A parsed
+ * expression holds no state, so each source text is parsed once per process (a run's computed fields are judged on
+ * every save).
+ */
 export function parseExpression(source: string): ParsedExpression {
+  const known = typeof source === 'string' ? parsedCache.get(source) : undefined
+  if (known) return known
+  const parsed = parseUncached(source)
+  if (parsedCache.size >= PARSED_CACHE_LIMIT) parsedCache.delete(parsedCache.keys().next().value as string)
+  parsedCache.set(source, parsed)
+  return parsed
+}
+
+function parseUncached(source: string): ParsedExpression {
   if (typeof source !== 'string' || source.trim() === '') throw invalid(String(source), 'it is empty')
   let root: MathNode
   try {

@@ -134,6 +134,7 @@ export interface RunDetail extends RunSummary {
 /** Answer of `PUT /api/runs/:runId/readings/:fieldId`: the field, and every field again (computed ones follow). */
 export interface ReadingSaved {
   reading: RunReading
+  /** The readings this save changed: the saved one and every reading whose verdict followed it (computed fields). */
   readings: Record<string, RunReading>
   progress: RunProgress
   /** True when this change id had been applied before (a retry after a lost answer). */

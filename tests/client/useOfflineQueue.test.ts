@@ -152,6 +152,29 @@ describe('useOfflineQueue', () => {
     queue.dispose()
   })
 
+  it('when the server is overloaded (503 with Retry-After), then the change is kept, waits as long as the server asked, and is sent then', async () => {
+    const busy = new RunApiError(503, 'busy', 'Startproof is busy', {}, null, 5000)
+    const send = vi.fn().mockRejectedValueOnce(busy).mockResolvedValue({ version: 1 })
+    const { queue, onRejected } = setup(send)
+    await queue.load()
+    await queue.enqueue('reading', 'chwFlow', reading(1200), 0)
+    await vi.advanceTimersByTimeAsync(600)
+    expect(send).toHaveBeenCalledTimes(1)
+    expect(queue.status.value).toBe('failing')
+    expect([...storage.changes.values()].map((c) => c.body)).toEqual([expect.objectContaining(reading(1200))])
+    // The backoff alone would retry after 1 s; the server asked for 5 s.
+    await vi.advanceTimersByTimeAsync(4999)
+    expect(send).toHaveBeenCalledTimes(1)
+    await vi.advanceTimersByTimeAsync(1)
+    expect(send).toHaveBeenCalledTimes(2)
+    expect(send.mock.calls[1][0].changeId).toBe(send.mock.calls[0][0].changeId)
+    expect(send.mock.calls[1][0].body).toEqual(expect.objectContaining(reading(1200)))
+    expect(storage.changes.size).toBe(0)
+    expect(queue.status.value).toBe('saved')
+    expect(onRejected).not.toHaveBeenCalled()
+    queue.dispose()
+  })
+
   it('when the connection returns, then retryNow sends at once instead of waiting out the backoff', async () => {
     const send = vi.fn().mockRejectedValueOnce(network()).mockRejectedValueOnce(network()).mockResolvedValue({ version: 1 })
     const { queue } = setup(send)

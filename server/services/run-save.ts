@@ -1,0 +1,189 @@
+import { isDeepStrictEqual } from 'node:util'
+import type { EntityManager } from 'typeorm'
+import type { ChecklistDefinition } from '@shared/schemas/checklist'
+import type { SessionUser } from '@shared/types/api'
+import type { RunState } from '@shared/types/run'
+import type { Equipment, Project, Reading } from '../entities'
+import type { AuditEntry } from './audit.service'
+import { evaluateAll } from './run-record'
+
+/**
+ * The statements of a save, written as SQL so that a save is a small fixed number of them on the transaction's one
+ * connection (run.service.ts `setReading`; counted in tests/server/save-statements.test.ts).
+ */
+
+/** The run, locked for this change, with what it is judged by and whether the person may reach it. */
+export interface LockedRun {
+  id: string
+  project_id: string
+  template_version_id: string
+  state: RunState
+  version_number: number
+  template_name: string
+  design_point: Equipment['designPoint']
+  project: Pick<Project, 'unitSystem' | 'siteElevationM' | 'barometricKpa'>
+  allowed: boolean
+  /** This change id was applied to this target before (a retry after a lost answer). */
+  duplicate: boolean
+  /** The run's steps marked not applicable (or otherwise set aside). */
+  na_steps: { stepId: string; disposition: unknown; notApplicable: boolean; naReason: string | null }[]
+}
+
+/** One statement: the run row locked (FOR UPDATE), its project's units and site, equipment design point, version, access. */
+export async function lockedRunForChange(
+  tx: EntityManager,
+  user: SessionUser,
+  runId: string,
+  change: { changeId: string; target: 'reading' | 'step'; targetId: string },
+): Promise<LockedRun | null> {
+  const rows: LockedRun[] = await tx.query(
+    `SELECT r.id, r.project_id, r.template_version_id, r.state, v.number AS version_number, t.name AS template_name,
+            e.design_point,
+            json_build_object('unitSystem', p.unit_system, 'siteElevationM', p.site_elevation_m, 'barometricKpa', p.barometric_kpa) AS project,
+            CASE WHEN $3 = 'admin'
+                 THEN EXISTS (SELECT 1 FROM app_user u WHERE u.id = $2 AND u.organization_id = p.organization_id)
+                 ELSE EXISTS (SELECT 1 FROM project_member m WHERE m.project_id = p.id AND m.user_id = $2) END AS allowed,
+            EXISTS (SELECT 1 FROM run_change c WHERE c.id = $4 AND c.run_id = r.id AND c.target = $5 AND c.target_id = $6) AS duplicate,
+            COALESCE((SELECT json_agg(json_build_object('stepId', s.step_id, 'disposition', s.disposition, 'notApplicable', s.not_applicable, 'naReason', s.na_reason))
+                        FROM run_step s WHERE s.run_id = r.id AND s.not_applicable), '[]'::json) AS na_steps
+       FROM run r
+       JOIN project p ON p.id = r.project_id
+       JOIN equipment e ON e.id = r.equipment_id
+       JOIN template_version v ON v.id = r.template_version_id
+       JOIN checklist_template t ON t.id = v.template_id
+      WHERE r.id = $1
+        FOR UPDATE OF r`,
+    [runId, user.id, user.role, change.changeId, change.target, change.targetId],
+  )
+  return rows[0] ?? null
+}
+
+export type ReadingRow = Reading & { updatedByName: string | null }
+
+/** One statement: every reading of the run, with the name of whoever last changed each. */
+export async function readingRows(tx: EntityManager, runId: string): Promise<ReadingRow[]> {
+  const rows: Record<string, unknown>[] = await tx.query(
+    `SELECT rd.field_id, rd.entry, rd.canonical_value, rd.verdict, rd.evaluation, rd.disposition, rd.not_applicable, rd.na_reason,
+            rd.justification, rd.version, rd.updated_by, rd.updated_at, u.display_name AS updated_by_name
+       FROM reading rd LEFT JOIN app_user u ON u.id = rd.updated_by
+      WHERE rd.run_id = $1`,
+    [runId],
+  )
+  return rows.map((r) => ({
+    runId,
+    fieldId: r.field_id as string,
+    entry: r.entry as Reading['entry'],
+    canonicalValue: r.canonical_value as number | null,
+    verdict: r.verdict as string,
+    evaluation: r.evaluation as Reading['evaluation'],
+    disposition: r.disposition as Reading['disposition'],
+    notApplicable: r.not_applicable as boolean,
+    naReason: r.na_reason as string | null,
+    justification: r.justification as string | null,
+    version: r.version as number,
+    updatedBy: r.updated_by as string | null,
+    updatedAt: r.updated_at as Date | null,
+    updatedByName: r.updated_by_name as string | null,
+  }))
+}
+
+/**
+ * Re-judges the fields in `only` (the dependents of the changed field) from the rows in memory, updates those rows,
+ * and returns the ones whose evaluation changed.
+ */
+export function rejudged(
+  ctx: { definition: ChecklistDefinition; equipment: Pick<Equipment, 'designPoint'>; project: Pick<Project, 'unitSystem'> & Partial<Pick<Project, 'siteElevationM' | 'barometricKpa'>> },
+  readings: Reading[],
+  naSteps: ReadonlySet<string>,
+  only: ReadonlySet<string>,
+): Reading[] {
+  const evaluations = evaluateAll(ctx, readings, naSteps, only)
+  const changed: Reading[] = []
+  for (const r of readings) {
+    const evaluation = evaluations[r.fieldId]
+    if (!evaluation || isDeepStrictEqual(evaluation, r.evaluation)) continue
+    r.evaluation = evaluation
+    r.verdict = evaluation.verdict
+    r.canonicalValue = evaluation.canonical?.value ?? null
+    changed.push(r)
+  }
+  return changed
+}
+
+/**
+ * One statement: the saved field's new content (when `ownFieldId` is given) and every changed verdict, written
+ * together from a JSON record set. Nothing when no row changed.
+ */
+export async function writeReadings(tx: EntityManager, runId: string, rows: Reading[], ownFieldId: string | null): Promise<void> {
+  if (!rows.length) return
+  const records = rows.map((r) => ({
+    field_id: r.fieldId,
+    own: r.fieldId === ownFieldId,
+    entry: r.entry,
+    disposition: r.disposition,
+    not_applicable: r.notApplicable,
+    na_reason: r.naReason,
+    justification: r.justification,
+    version: r.version,
+    updated_by: r.updatedBy,
+    updated_at: r.updatedAt?.toISOString() ?? null,
+    evaluation: r.evaluation,
+    verdict: r.verdict,
+    canonical_value: r.canonicalValue,
+  }))
+  // jsonb_to_recordset keeps a JSON null as the jsonb value 'null'; NULLIF stores it as SQL NULL, as the entity does.
+  await tx.query(
+    `UPDATE reading AS r SET
+        evaluation = v.evaluation,
+        verdict = v.verdict,
+        canonical_value = v.canonical_value,
+        entry = CASE WHEN v.own THEN NULLIF(v.entry, 'null'::jsonb) ELSE r.entry END,
+        disposition = CASE WHEN v.own THEN NULLIF(v.disposition, 'null'::jsonb) ELSE r.disposition END,
+        not_applicable = CASE WHEN v.own THEN v.not_applicable ELSE r.not_applicable END,
+        na_reason = CASE WHEN v.own THEN v.na_reason ELSE r.na_reason END,
+        justification = CASE WHEN v.own THEN v.justification ELSE r.justification END,
+        version = CASE WHEN v.own THEN v.version ELSE r.version END,
+        updated_by = CASE WHEN v.own THEN v.updated_by ELSE r.updated_by END,
+        updated_at = CASE WHEN v.own THEN v.updated_at ELSE r.updated_at END
+       FROM jsonb_to_recordset($2::jsonb) AS v(field_id text, own boolean, entry jsonb, disposition jsonb, not_applicable boolean, na_reason text,
+            justification text, version integer, updated_by uuid, updated_at timestamptz, evaluation jsonb, verdict text, canonical_value double precision)
+      WHERE r.run_id = $1 AND r.field_id = v.field_id`,
+    [runId, JSON.stringify(records)],
+  )
+}
+
+/**
+ * One statement: the change id recorded (a retry of it is then answered as a duplicate), and, when something changed,
+ * the audit event and the run's last-changed time.
+ */
+export async function recordChange(
+  tx: EntityManager,
+  change: { changeId: string; runId: string; target: 'reading' | 'step'; targetId: string; userId: string; at: Date },
+  audit: (AuditEntry & { occurredAt: Date }) | null,
+): Promise<void> {
+  await tx.query(
+    `WITH change AS (
+       INSERT INTO run_change (id, run_id, target, target_id, user_id, applied_at) VALUES ($1, $2, $3, $4, $5, $6)
+     ), audit AS (
+       INSERT INTO audit_event (actor_id, action, entity_type, entity_id, project_id, before, after, occurred_at)
+       SELECT $7, $8, $9, $10, $11, $12::jsonb, $13::jsonb, $6 WHERE $14::boolean
+     )
+     UPDATE run SET updated_at = $6 WHERE id = $2 AND $14::boolean`,
+    [
+      change.changeId,
+      change.runId,
+      change.target,
+      change.targetId,
+      change.userId,
+      change.at.toISOString(),
+      audit?.actorId ?? null,
+      audit?.action ?? null,
+      audit?.entityType ?? null,
+      audit?.entityId ?? null,
+      audit?.projectId ?? null,
+      audit?.before ? JSON.stringify(audit.before) : null,
+      audit?.after ? JSON.stringify(audit.after) : null,
+      audit !== null,
+    ],
+  )
+}
