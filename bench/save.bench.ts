@@ -62,6 +62,8 @@ let cluster: ThrowawayCluster | null = null
 let tmpRoot: string | null = null
 let owner: pg.Client | null = null
 let cleaning: Promise<void> | null = null
+/** Set on Ctrl-C: what fails after it (requests to a stopping server) is not worth a stack trace. */
+let interrupted = false
 
 function cleanup(): Promise<void> {
   cleaning ??= (async () => {
@@ -91,6 +93,7 @@ function stopChild(child: ChildProcess): Promise<void> {
 
 for (const signal of ['SIGINT', 'SIGTERM'] as const) {
   process.once(signal, () => {
+    interrupted = true
     console.error(`\n${signal}: stopping the servers and the cluster …`)
     void cleanup().finally(() => process.exit(130))
   })
@@ -168,7 +171,14 @@ async function signIn(base: string, email: string, password: string): Promise<st
 const valueOf = (seq: number) => Math.round(300 + ((seq * 7) % 150)) / 10
 const saveBody = (version: number, seq: number) => JSON.stringify({ changeId: randomUUID(), baseVersion: version, entry: { value: valueOf(seq), unit: FIELD_UNIT } })
 
-interface Lane { runId: string; cookie: string; version: number; seq: number }
+interface Lane {
+  runId: string
+  cookie: string
+  version: number
+  seq: number
+  /** Saves answered 2xx on this lane, warm-ups included: each one bumped the field's version by one. */
+  answeredOk: number
+}
 
 /** A writer on its own run: it follows the field's version from each answer (a 409 carries the current one). */
 function writerFor(lane: Lane, pathname: string, headers: Record<string, string>): Writer {
@@ -178,7 +188,8 @@ function writerFor(lane: Lane, pathname: string, headers: Record<string, string>
     body: () => saveBody(lane.version, ++lane.seq),
     onAnswer(status, text) {
       try {
-        const body = JSON.parse(text) as { reading?: { version?: number }; current?: { version?: number } }
+        const body = JSON.parse(text) as { reading?: { version?: number }; current?: { version?: number }; duplicate?: boolean }
+        if (status < 300 && !body.duplicate) lane.answeredOk += 1
         const v = status < 300 ? body.reading?.version : body.current?.version
         if (typeof v === 'number') lane.version = v
       } catch {
@@ -289,10 +300,10 @@ async function main() {
     const cookie = i === 1 ? techCookie : await signIn(base, technician.email, technician.password)
     const { body: { run } } = await expectOk(`run on ${item.tag}`, api<{ run: { id: string; definition: { sections: { steps: { fields: { id: string }[] }[] }[] } } }>(base, 'POST', `/api/equipment/${equipment.id}/runs`, { cookie, body: { templateId: template.id } }), 201)
     if (!run.definition.sections.some((s) => s.steps.some((st) => st.fields.some((f) => f.id === FIELD_ID)))) throw new Error(`${TEMPLATE_KEY} has no field ${FIELD_ID}`)
-    lanes.push({ runId: run.id, cookie, version: 0, seq: 0 })
+    lanes.push({ runId: run.id, cookie, version: 0, seq: 0, answeredOk: 0 })
   }
   console.log(`${maxWriters} chillers and runs on ${project.code} for ${technician.displayName}, one signed-in session each, in ${((performance.now() - t) / 1000).toFixed(1)} s; every save writes ${FIELD_ID} (${FIELD_UNIT})`)
-  const floorLanes: Lane[] = lanes.map(() => ({ runId: randomUUID(), cookie: '', version: 0, seq: 0 }))
+  const floorLanes: Lane[] = lanes.map(() => ({ runId: randomUUID(), cookie: '', version: 0, seq: 0, answeredOk: 0 }))
 
   const productWriters = (n: number) => lanes.slice(0, n).map((l) => writerFor(l, `/api/runs/${l.runId}/readings/${FIELD_ID}`, { origin: base, cookie: l.cookie }))
   const floorWriters = (n: number) => floorLanes.slice(0, n).map((l) => writerFor(l, `/floor/runs/${l.runId}/readings/${FIELD_ID}`, { origin: floorBase }))
@@ -326,6 +337,16 @@ async function main() {
   for (const m of measured) printLevel(m)
   console.log(`\nPeak PostgreSQL client connections by application: ${[...peakConnections.entries()].map(([k, v]) => `${k} ${v}`).join(', ')}`)
 
+  // Every save changes the value, so each one applied adds one to the field's version. More versions stored than saves
+  // answered 2xx means some saves were kept although their answer was an error (the tablet would send them again).
+  const stored = async (sql: string, ids: string[]) => Number((await owner!.query(sql, [ids, FIELD_ID])).rows[0].n ?? 0)
+  const storedProduct = await stored(`SELECT sum(version) AS n FROM reading WHERE run_id = ANY($1::uuid[]) AND field_id = $2`, lanes.map((x) => x.runId))
+  const storedFloor = await stored(`SELECT sum(version) AS n FROM ${FLOOR_TABLE} WHERE run_id = ANY($1::uuid[]) AND field_id = $2`, floorLanes.map((x) => x.runId))
+  for (const [name, n, ls] of [['floor', storedFloor, floorLanes], ['Startproof', storedProduct, lanes]] as const) {
+    const ok = ls.reduce((a, x) => a + x.answeredOk, 0)
+    console.log(`${name}: ${ok} saves answered 2xx (warm-ups included), ${n} stored${n > ok ? ` — ${n - ok} kept although answered with an error` : n < ok ? ` — ${ok - n} answered 2xx but not stored` : ''}`)
+  }
+
   const first = measured[0]
   const last = measured[measured.length - 1]
   const f = stats(first.floor)
@@ -345,6 +366,7 @@ async function main() {
 
 main()
   .then(async (allMet) => {
+    if (interrupted) return
     await cleanup()
     if (!allMet && opts.strict) {
       console.log('A goal was missed (--strict): exit 1')
@@ -353,6 +375,7 @@ main()
     process.exit(0)
   })
   .catch(async (err) => {
+    if (interrupted) return // the signal handler stops everything and exits 130
     console.error(err)
     await cleanup()
     process.exit(1)
