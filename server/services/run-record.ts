@@ -89,24 +89,48 @@ export function stepView(s: RunStep, names: Map<string, string>): RunStepState {
   }
 }
 
+/** The run's findings, oldest first, with their authors' names and linked photos: one statement. */
 export async function findingViews(manager: EntityManager, runId: string): Promise<FindingSummary[]> {
-  const findings = await manager.getRepository(Finding).find({ where: { runId }, order: { createdAt: 'ASC', id: 'ASC' } })
-  const links = await manager.getRepository(RunAttachment).find({ where: { runId }, select: { id: true, findingId: true }, order: { createdAt: 'ASC', id: 'ASC' } })
-  const names = await displayNames(manager, findings.flatMap((f) => [f.createdBy, f.resolvedBy]))
-  return findings.map((f) => ({
+  const rows: {
+    id: string
+    run_id: string
+    step_id: string
+    field_id: string | null
+    severity: Finding['severity']
+    description: string
+    status: Finding['status']
+    resolution: string | null
+    resolved_at: Date | null
+    resolved_by_name: string | null
+    created_at: Date
+    created_by_name: string | null
+    attachment_ids: string[]
+    version: number
+  }[] = await manager.query(
+    `SELECT f.id, f.run_id, f.step_id, f.field_id, f.severity, f.description, f.status, f.resolution, f.resolved_at, f.created_at, f.version,
+            ru.display_name AS resolved_by_name, cu.display_name AS created_by_name,
+            COALESCE((SELECT array_agg(a.id::text ORDER BY a.created_at, a.id) FROM run_attachment a WHERE a.run_id = f.run_id AND a.finding_id = f.id), '{}') AS attachment_ids
+       FROM finding f
+       LEFT JOIN app_user ru ON ru.id = f.resolved_by
+       LEFT JOIN app_user cu ON cu.id = f.created_by
+      WHERE f.run_id = $1
+      ORDER BY f.created_at, f.id`,
+    [runId],
+  )
+  return rows.map((f) => ({
     id: f.id,
-    runId: f.runId,
-    stepId: f.stepId,
-    fieldId: f.fieldId,
+    runId: f.run_id,
+    stepId: f.step_id,
+    fieldId: f.field_id,
     severity: f.severity,
     description: f.description,
     status: f.status,
     resolution: f.resolution,
-    resolvedAt: f.resolvedAt?.toISOString() ?? null,
-    resolvedByName: f.resolvedBy ? (names.get(f.resolvedBy) ?? null) : null,
-    createdAt: f.createdAt.toISOString(),
-    createdByName: f.createdBy ? (names.get(f.createdBy) ?? null) : null,
-    attachmentIds: links.filter((l) => l.findingId === f.id).map((l) => l.id),
+    resolvedAt: f.resolved_at?.toISOString() ?? null,
+    resolvedByName: f.resolved_by_name,
+    createdAt: f.created_at.toISOString(),
+    createdByName: f.created_by_name,
+    attachmentIds: f.attachment_ids,
     version: f.version,
   }))
 }

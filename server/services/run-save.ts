@@ -3,7 +3,7 @@ import type { EntityManager } from 'typeorm'
 import type { ChecklistDefinition } from '@shared/schemas/checklist'
 import type { SessionUser } from '@shared/types/api'
 import type { RunState } from '@shared/types/run'
-import type { Equipment, Project, Reading } from '../entities'
+import type { Equipment, Project, Reading, RunStep } from '../entities'
 import type { AuditEntry } from './audit.service'
 import { evaluateAll } from './run-record'
 
@@ -186,4 +186,28 @@ export async function recordChange(
       audit !== null,
     ],
   )
+}
+
+export type StepRow = RunStep & { updatedByName: string | null }
+
+/** One statement: every step of the run, with the name of whoever last changed each. */
+export async function stepRows(manager: EntityManager, runId: string): Promise<StepRow[]> {
+  const rows: Record<string, unknown>[] = await manager.query(
+    `SELECT s.step_id, s.note, s.disposition, s.not_applicable, s.na_reason, s.version, s.updated_by, s.updated_at, u.display_name AS updated_by_name
+       FROM run_step s LEFT JOIN app_user u ON u.id = s.updated_by
+      WHERE s.run_id = $1`,
+    [runId],
+  )
+  return rows.map((r) => ({
+    runId,
+    stepId: r.step_id as string,
+    note: r.note as string,
+    disposition: r.disposition as RunStep['disposition'],
+    notApplicable: r.not_applicable as boolean,
+    naReason: r.na_reason as string | null,
+    version: r.version as number,
+    updatedBy: r.updated_by as string | null,
+    updatedAt: r.updated_at as Date | null,
+    updatedByName: r.updated_by_name as string | null,
+  }) as StepRow)
 }

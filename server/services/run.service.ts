@@ -23,8 +23,34 @@ import { fieldErrors } from '../middleware/validate'
 import { recordAudit } from './audit.service'
 import { attachmentViews, countRows, displayNames, evaluateAll, findingViews, keptSnapshot, MissingSnapshotError, readingView, signedSnapshotHash, stepView } from './run-record'
 import { systemClock, type Clock } from './clock'
-import { lockedRunForChange, readingRows, recordChange, rejudged, writeReadings } from './run-save'
+import { lockedRunForChange, readingRows, recordChange, rejudged, stepRows, writeReadings } from './run-save'
 import type { ProjectService } from './project.service'
+
+/** The run page's first statement: the run with what it is shown and judged with, and whether the person may see it. */
+interface RunPageRow {
+  id: string
+  project_id: string
+  equipment_id: string
+  template_version_id: string
+  state: RunState
+  version: number
+  started_at: Date
+  updated_at: Date
+  started_by: string | null
+  started_by_name: string | null
+  project_code: string
+  project_name: string
+  unit_system: Project['unitSystem']
+  site_elevation_m: number | null
+  barometric_kpa: number | null
+  equipment_tag: string
+  equipment_kind: string
+  design_point: Equipment['designPoint']
+  version_number: number
+  template_id: string
+  template_name: string
+  allowed: boolean
+}
 
 /** Everything a run is judged with: the pinned definition, the equipment's design point and the project's units. */
 export interface RunContext {
@@ -206,8 +232,82 @@ export class RunService {
     return stepView(step, await this.names([step.updatedBy]))
   }
 
+  /**
+   * The run page: one statement for the run with its project, equipment, version, template and the person's access;
+   * then (in progress) its readings, steps, findings, files and signatures, each one statement with names joined.
+   */
   async detail(user: SessionUser, runId: string): Promise<RunDetail> {
-    return this.detailOf(await this.context(user, runId))
+    const uuid = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i
+    if (!uuid.test(runId)) throw AppError.notFound('Run')
+    const [row] = (await this.db.query(
+      `SELECT r.id, r.project_id, r.equipment_id, r.template_version_id, r.state, r.version, r.started_at, r.updated_at, r.started_by,
+              su.display_name AS started_by_name, p.code AS project_code, p.name AS project_name, p.unit_system, p.site_elevation_m, p.barometric_kpa,
+              e.tag AS equipment_tag, e.kind AS equipment_kind, e.design_point, v.number AS version_number, v.template_id, t.name AS template_name,
+              CASE WHEN $3 = 'admin'
+                   THEN EXISTS (SELECT 1 FROM app_user u WHERE u.id = $2 AND u.organization_id = p.organization_id)
+                   ELSE EXISTS (SELECT 1 FROM project_member m WHERE m.project_id = p.id AND m.user_id = $2) END AS allowed
+         FROM run r
+         JOIN project p ON p.id = r.project_id
+         JOIN equipment e ON e.id = r.equipment_id
+         JOIN template_version v ON v.id = r.template_version_id
+         JOIN checklist_template t ON t.id = v.template_id
+         LEFT JOIN app_user su ON su.id = r.started_by
+        WHERE r.id = $1`,
+      [runId, user.id, user.role],
+    )) as RunPageRow[]
+    if (!row || !row.allowed || !this.mayRead(user, row.state)) throw AppError.notFound('Run')
+    const run = Object.assign(new Run(), {
+      id: row.id,
+      projectId: row.project_id,
+      equipmentId: row.equipment_id,
+      templateVersionId: row.template_version_id,
+      state: row.state,
+      version: row.version,
+      startedAt: row.started_at,
+      updatedAt: row.updated_at,
+      startedBy: row.started_by,
+    })
+    if (!EDITABLE_RUN_STATES.includes(row.state)) return this.signedDetail(run)
+    const manager = this.db.manager
+    const [definition, readings, steps, findings, attachments, signatures] = await Promise.all([
+      this.definitionOf(manager, row.template_version_id),
+      readingRows(manager, runId),
+      stepRows(manager, runId),
+      findingViews(manager, runId),
+      attachmentViews(manager, runId),
+      this.signatures(runId),
+    ])
+    const names = new Map<string, string>()
+    for (const r of [...readings, ...steps]) if (r.updatedBy && r.updatedByName) names.set(r.updatedBy, r.updatedByName)
+    const project = { unitSystem: row.unit_system, siteElevationM: row.site_elevation_m, barometricKpa: row.barometric_kpa }
+    return {
+      id: run.id,
+      projectId: run.projectId,
+      projectCode: row.project_code,
+      projectName: row.project_name,
+      equipmentId: run.equipmentId,
+      equipmentTag: row.equipment_tag,
+      equipmentKind: row.equipment_kind,
+      templateId: row.template_id,
+      templateName: row.template_name,
+      templateVersionNumber: row.version_number,
+      state: run.state,
+      version: run.version,
+      startedAt: run.startedAt.toISOString(),
+      startedByName: row.started_by_name,
+      updatedAt: run.updatedAt.toISOString(),
+      progress: countRows(definition, readings, steps.filter((st) => st.notApplicable)).totals,
+      openFindings: findings.filter((f) => f.status === 'open').length,
+      unitSystem: row.unit_system,
+      siteBarometricKpa: siteBarometric(project).kpa,
+      definition,
+      designPoint: row.design_point,
+      readings: Object.fromEntries(readings.map((r) => [r.fieldId, readingView(r, names)])),
+      steps: Object.fromEntries(steps.map((st) => [st.stepId, stepView(st, names)])),
+      findings,
+      attachments,
+      signatures,
+    }
   }
 
   /**

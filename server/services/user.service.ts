@@ -32,9 +32,15 @@ export class UserService {
 
   /** The signed-in view of a user, or null when the account is gone or deactivated. */
   async sessionUser(id: string): Promise<SessionUser | null> {
-    const user = await this.db.getRepository(User).findOne({ where: { id, active: true }, relations: { organization: true } })
+    // Once per request (passport's deserializeUser): one statement, the organisation joined.
+    const [user] = (await this.db.query(
+      `SELECT u.id, u.email, u.display_name, u.role, o.name AS organization_name
+         FROM app_user u JOIN organization o ON o.id = u.organization_id
+        WHERE u.id = $1 AND u.active`,
+      [id],
+    )) as { id: string; email: string; display_name: string; role: SessionUser['role']; organization_name: string }[]
     if (!user) return null
-    return { id: user.id, email: user.email, displayName: user.displayName, role: user.role, organizationName: user.organization.name }
+    return { id: user.id, email: user.email, displayName: user.display_name, role: user.role, organizationName: user.organization_name }
   }
 
   /** Checks credentials; one answer for unknown, wrong and deactivated so nobody can probe accounts. */

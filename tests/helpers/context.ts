@@ -10,7 +10,7 @@ import type { Role } from '@shared/types/roles'
 import { loadConfig, type Config } from '../../server/config'
 import { createApp } from '../../server/app'
 import { createAppServices, type AppServices } from '../../server/services'
-import { createDataSource } from '../../server/db/data-source'
+import { createDataSource, requestPoolOptions } from '../../server/db/data-source'
 import { Organization, Project, ProjectMember, User } from '../../server/entities'
 import { hashPassword } from '../../server/auth/passwords'
 
@@ -36,7 +36,8 @@ export async function createTestContext(env: Record<string, string> = {}): Promi
     CERT_DIR: certDir,
     ...env,
   })
-  const db = createDataSource(config.DATABASE_URL, { poolSize: 4 })
+  // The configured pool (DB_POOL_SIZE and its time-outs), at most 4 connections unless a test asks for its own.
+  const db = createDataSource(config.DATABASE_URL, { ...requestPoolOptions(config), poolSize: env.DB_POOL_SIZE ? config.DB_POOL_SIZE : 4 })
   await db.initialize()
   const services = createAppServices(config, db)
   return {

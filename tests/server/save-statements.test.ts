@@ -1,0 +1,185 @@
+import { randomUUID } from 'node:crypto'
+import pg from 'pg'
+import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
+import type { ChecklistDefinition } from '@shared/schemas/checklist'
+import { dependentFields } from '@shared/rules'
+import { demoChiller } from '../../server/db/demo/plant'
+import { chillerRun, rng } from '../../server/db/demo/readings'
+import { Equipment, Project, Reading, RunStep } from '../../server/entities'
+import { evaluateAll } from '../../server/services/run-record'
+import { installStarterLibrary } from '../../server/services/starter-library'
+import { chiller } from '../helpers/runs'
+import { createTestContext, makeOrganization, makeProject, makeUser, resetDatabase, signedInAgent, type TestContext } from '../helpers/context'
+
+// Every statement any pg client of this process sends while `counting` is on (TypeORM's pool and the session store's).
+const sent: string[] = []
+let counting = false
+const originalQuery = pg.Client.prototype.query
+beforeAll(() => {
+  pg.Client.prototype.query = function (this: pg.Client, ...args: unknown[]) {
+    if (counting) {
+      const first = args[0] as string | { text?: string }
+      sent.push((typeof first === 'string' ? first : (first?.text ?? '')).replace(/\s+/g, ' ').trim())
+    }
+    return (originalQuery as (...a: unknown[]) => unknown).apply(this, args)
+  } as typeof pg.Client.prototype.query
+})
+afterAll(() => {
+  pg.Client.prototype.query = originalQuery
+})
+
+async function statementsOf<T>(work: () => Promise<T>): Promise<{ result: T; statements: string[] }> {
+  sent.length = 0
+  counting = true
+  try {
+    const result = await work()
+    return { result, statements: [...sent] }
+  } finally {
+    counting = false
+  }
+}
+
+/** The statements from BEGIN to COMMIT (TypeORM starts a transaction with START TRANSACTION). */
+function transactionOf(statements: string[]): string[] {
+  const begin = statements.findIndex((s) => /^(START TRANSACTION|BEGIN)/i.test(s))
+  const commit = statements.findIndex((s) => /^COMMIT/i.test(s))
+  return begin >= 0 && commit > begin ? statements.slice(begin, commit + 1) : []
+}
+
+let ctx: TestContext
+beforeAll(async () => {
+  ctx = await createTestContext()
+})
+afterAll(() => ctx.close())
+beforeEach(() => resetDatabase(ctx.db))
+
+// The demo's 500-ton machine: its design point has every value the generated readings are judged against.
+const machine = demoChiller('CH-3', 'Plant room', 'TW-3')
+
+async function startedRun() {
+  const org = await makeOrganization(ctx.db)
+  const admin = await makeUser(ctx.db, org, 'admin')
+  const tech = await makeUser(ctx.db, org, 'technician', { displayName: 'Ada Tech' })
+  const project = await makeProject(ctx.db, org, [tech.id])
+  await ctx.db.transaction((tx) => installStarterLibrary(tx, org.id, admin.id))
+  const adminAgent = await signedInAgent(ctx.app, admin)
+  const equipment = (await adminAgent.post(`/api/projects/${project.id}/equipment`).send(machine).expect(201)).body.equipment
+  const template = (await adminAgent.get('/api/templates')).body.templates.find((t: { key: string }) => t.key === 'centrifugal-chiller-startup')
+  const techAgent = await signedInAgent(ctx.app, tech)
+  const run = (await techAgent.post(`/api/equipment/${equipment.id}/runs`).send({ templateId: template.id }).expect(201)).body.run
+  return { techAgent, run, definition: run.definition as ChecklistDefinition }
+}
+
+const save = (agent: Awaited<ReturnType<typeof startedRun>>['techAgent'], runId: string, fieldId: string, entry: unknown, baseVersion: number, changeId = randomUUID()) =>
+  agent.put(`/api/runs/${runId}/readings/${fieldId}`).send({ changeId, baseVersion, entry })
+
+describe('saving a reading', () => {
+  it('when a technician saves a reading, then the whole request, session and person included, is at most 8 statements, the save one transaction of them', async () => {
+    const { techAgent, run } = await startedRun()
+    // The first save of a version also reads its definition once for the process; count a later one.
+    await save(techAgent, run.id, 'safetyBriefing', { value: true }, 0).expect(200)
+    const { result, statements } = await statementsOf(() => save(techAgent, run.id, 'manufacturerInstructions', { value: true }, 0))
+    expect(result.status).toBe(200)
+    const tx = transactionOf(statements)
+    expect(tx.length, tx.join('\n')).toBeGreaterThan(0)
+    expect(tx.length, tx.join('\n')).toBeLessThanOrEqual(8)
+    expect(statements.length, statements.join('\n')).toBeLessThanOrEqual(8)
+    // Nothing outside the transaction reads the run again.
+    const after = statements.slice(statements.findIndex((s) => /^COMMIT/i.test(s)) + 1)
+    expect(after, after.join('\n')).toEqual([])
+  })
+
+  it('when a reading that computed fields read is saved, then only the fields depending on it are in the answer, and every stored verdict equals judging the whole run again', async () => {
+    const { techAgent, run, definition } = await startedRun()
+    const generated = chillerRun(definition, 'IP', machine.designPoint, rng(7), {}, { technician: 'Ada Tech', attendees: 'Olive Owner' })
+    const versions: Record<string, number> = {}
+    let sawDependents = false
+    for (const { fieldId, entry } of generated.entries) {
+      const res = await save(techAgent, run.id, fieldId, entry, versions[fieldId] ?? 0)
+      expect(res.status, `${fieldId}: ${JSON.stringify(res.body)}`).toBe(200)
+      versions[fieldId] = res.body.reading.version
+      const answered = Object.keys(res.body.readings)
+      const dependents = dependentFields(definition, fieldId)
+      expect(answered.every((id) => dependents.has(id)), `${fieldId} answered ${answered.join(', ')}`).toBe(true)
+      expect(res.body.reading.fieldId).toBe(fieldId)
+      if (answered.some((id) => id !== fieldId)) sawDependents = true
+    }
+    // The generated run fills the water temperatures and flows that capacity, kW/ton and the approaches are computed from.
+    expect(sawDependents).toBe(true)
+
+    const stored = await ctx.db.getRepository(Reading).findBy({ runId: run.id })
+    const naSteps = new Set((await ctx.db.getRepository(RunStep).findBy({ runId: run.id, notApplicable: true })).map((s) => s.stepId))
+    const equipment = await ctx.db.getRepository(Equipment).findOneByOrFail({ id: run.equipmentId })
+    const project = await ctx.db.getRepository(Project).findOneByOrFail({ id: run.projectId })
+    const full = evaluateAll({ definition, equipment, project }, stored, naSteps)
+    for (const r of stored) expect(r.evaluation, r.fieldId).toEqual(full[r.fieldId])
+    expect(stored.filter((r) => r.evaluation.computed && r.evaluation.verdict !== 'incomplete').length).toBeGreaterThan(3)
+
+    // The run page then shows what the saves stored, with the same progress as the last save's answer.
+    const page = (await techAgent.get(`/api/runs/${run.id}`).expect(200)).body.run
+    for (const r of stored) expect(page.readings[r.fieldId].evaluation).toEqual(r.evaluation)
+  })
+
+  it('when the same change is sent twice (its answer was lost), then the second is answered as a duplicate without a second audit event', async () => {
+    const { techAgent, run } = await startedRun()
+    const changeId = randomUUID()
+    const first = await save(techAgent, run.id, 'safetyBriefing', { value: true }, 0, changeId).expect(200)
+    const again = await save(techAgent, run.id, 'safetyBriefing', { value: true }, 0, changeId).expect(200)
+    expect(again.body.duplicate).toBe(true)
+    expect(again.body.reading).toEqual(first.body.reading)
+    expect(again.body.progress).toEqual(first.body.progress)
+    const [{ n }] = await ctx.db.query(`SELECT count(*)::int AS n FROM audit_event WHERE action = 'reading.set' AND entity_id = $1`, [`${run.id}/safetyBriefing`])
+    expect(n).toBe(1)
+  })
+})
+
+describe('the run page', () => {
+  it('when a technician opens a run, then it is read in a handful of statements, names joined rather than looked up per step', async () => {
+    const { techAgent, run, definition } = await startedRun()
+    const generated = chillerRun(definition, 'IP', machine.designPoint, rng(11), {}, { technician: 'Ada Tech', attendees: 'Olive Owner' })
+    for (const { fieldId, entry } of generated.entries.slice(0, 25)) await save(techAgent, run.id, fieldId, entry, 0).expect(200)
+    const { result, statements } = await statementsOf(() => techAgent.get(`/api/runs/${run.id}`))
+    expect(result.status).toBe(200)
+    expect(Object.keys(result.body.run.readings).length).toBeGreaterThan(40)
+    expect(result.body.run.readings[generated.entries[0].fieldId].updatedByName).toBe('Ada Tech')
+    // The session, the person, the run with its project, equipment and version, then readings, steps, findings, files, signatures.
+    expect(statements.length, statements.join('\n')).toBeLessThanOrEqual(9)
+  })
+})
+
+describe('overload', () => {
+  it('when every connection is busy, then a save is answered 503 with Retry-After, nothing is stored, and the same change goes through later', async () => {
+    const busy = await createTestContext({ DB_POOL_SIZE: '2', DB_POOL_WAIT_MS: '300' })
+    try {
+      const org = await makeOrganization(busy.db)
+      const admin = await makeUser(busy.db, org, 'admin')
+      const tech = await makeUser(busy.db, org, 'technician')
+      const project = await makeProject(busy.db, org, [tech.id])
+      await busy.db.transaction((tx) => installStarterLibrary(tx, org.id, admin.id))
+      const adminAgent = await signedInAgent(busy.app, admin)
+      const equipment = (await adminAgent.post(`/api/projects/${project.id}/equipment`).send(chiller).expect(201)).body.equipment
+      const template = (await adminAgent.get('/api/templates')).body.templates.find((t: { key: string }) => t.key === 'centrifugal-chiller-startup')
+      const techAgent = await signedInAgent(busy.app, tech)
+      const run = (await techAgent.post(`/api/equipment/${equipment.id}/runs`).send({ templateId: template.id }).expect(201)).body.run
+
+      // Two long statements hold both connections of the pool.
+      const holders = [busy.db.query('SELECT pg_sleep(2)'), busy.db.query('SELECT pg_sleep(2)')]
+      await new Promise((r) => setTimeout(r, 100))
+      const changeId = randomUUID()
+      const refused = await save(techAgent, run.id, 'safetyBriefing', { value: true }, 0, changeId)
+      expect(refused.status).toBe(503)
+      expect(refused.headers['retry-after']).toMatch(/^\d+$/)
+      expect(refused.body.error.code).toBe('busy')
+      await Promise.all(holders)
+      const [kept] = await busy.db.query(`SELECT version, entry FROM reading WHERE run_id = $1 AND field_id = 'safetyBriefing'`, [run.id])
+      expect(kept).toEqual({ version: 0, entry: null })
+
+      const later = await save(techAgent, run.id, 'safetyBriefing', { value: true }, 0, changeId)
+      expect(later.status).toBe(200)
+      expect(later.body.duplicate).toBe(false)
+      expect(later.body.reading.entry).toEqual({ value: true })
+    } finally {
+      await busy.close()
+    }
+  })
+})
