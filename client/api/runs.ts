@@ -71,11 +71,20 @@ export interface RunListQuery {
 const runUrl = (runId: string) => `/runs/${encodeURIComponent(runId)}`
 
 export const runsApi = {
-  list: (query: RunListQuery = {}) => {
-    const params = new URLSearchParams()
-    for (const [k, v] of Object.entries(query)) if (v !== undefined) params.set(k, String(v))
-    const qs = params.toString()
-    return http.get<{ runs: RunSummary[] }>(`/runs${qs ? `?${qs}` : ''}`).then((r) => r.runs)
+  /** Every run of the query, read a page at a time (the server pages by change time; `nextCursor` reads on). */
+  list: async (query: RunListQuery = {}) => {
+    const runs: RunSummary[] = []
+    let cursor: string | null = null
+    do {
+      const params = new URLSearchParams()
+      for (const [k, v] of Object.entries(query)) if (v !== undefined) params.set(k, String(v))
+      if (cursor) params.set('cursor', cursor)
+      const qs = params.toString()
+      const page: { runs: RunSummary[]; nextCursor: string | null } = await http.get(`/runs${qs ? `?${qs}` : ''}`)
+      runs.push(...page.runs)
+      cursor = page.nextCursor
+    } while (cursor)
+    return runs
   },
   listForEquipment: (equipmentId: string) => http.get<{ runs: RunSummary[] }>(`/equipment/${encodeURIComponent(equipmentId)}/runs`).then((r) => r.runs),
   start: (equipmentId: string, templateId: string) =>

@@ -12,6 +12,7 @@ import { EditVersions1764700000000 } from './1764700000000-EditVersions'
 import { Dispositions1764710000000 } from './1764710000000-Dispositions'
 import { SiteBarometric1764720000000 } from './1764720000000-SiteBarometric'
 import { CheckSupersession1764730000000 } from './1764730000000-CheckSupersession'
+import { RunProgressAndAuditIndexes1764740000000 } from './1764740000000-RunProgressAndAuditIndexes'
 
 /** Every migration in order. Listed by hand so tsx, Vitest and the CLI all load the same classes without a glob. */
 export const migrations = [
@@ -23,4 +24,5 @@ export const migrations = [
   Dispositions1764710000000,
   SiteBarometric1764720000000,
   CheckSupersession1764730000000,
+  RunProgressAndAuditIndexes1764740000000,
 ]

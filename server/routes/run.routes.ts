@@ -50,7 +50,8 @@ export function runRoutes(
   const runId = (req: { params: Record<string, unknown> }) => String(req.params.runId)
 
   byId.get('/', validate({ query: runListQuerySchema }), async (req, res) => {
-    res.json({ runs: await runs.list(currentUser(req), req.query as never) })
+    // A page of runs, newest change first; `nextCursor` (null on the last page) asks for the next.
+    res.json(await runs.listPage(currentUser(req), req.query as never))
   })
 
   byId.get('/:runId', validate({ params: runParamsSchema }), async (req, res) => {

@@ -8,7 +8,8 @@ import { Equipment, OutboundMail, Project, ProjectMember, Reading, RunStep, Sign
 import { renderMailText } from '../mail/mail.service'
 import { recordAudit } from './audit.service'
 import { changedKeys, listWords, utcTime } from './edit-conflict'
-import { evaluateAll } from './run-record'
+import { countRows, evaluateAll } from './run-record'
+import { storeProgress } from './run-save'
 
 /**
  * What a run is judged with and what its signature names must not drift from the record after signing. When an admin
@@ -171,7 +172,7 @@ export async function applyDesignChange(tx: EntityManager, runs: OpenRun[], chan
     const equipment = await tx.getRepository(Equipment).findOneByOrFail({ id: run.equipmentId })
     const version = await tx.getRepository(TemplateVersion).findOneByOrFail({ id: run.templateVersionId })
     const readings = await tx.getRepository(Reading).find({ where: { runId: run.runId }, order: { fieldId: 'ASC' } })
-    const naStepRows = await tx.getRepository(RunStep).find({ where: { runId: run.runId, notApplicable: true }, select: { stepId: true } })
+    const naStepRows = await tx.getRepository(RunStep).find({ where: { runId: run.runId, notApplicable: true }, select: { stepId: true, disposition: true, notApplicable: true, naReason: true } })
     const definition = version.definition as unknown as ChecklistDefinition
     const evaluations = evaluateAll({ definition, equipment, project }, readings, new Set(naStepRows.map((s) => s.stepId)))
     const verdictChanges: { fieldId: string; before: string; after: string }[] = []
@@ -186,6 +187,11 @@ export async function applyDesignChange(tx: EntityManager, runs: OpenRun[], chan
         { evaluation: asStored(evaluation), verdict: evaluation.verdict, canonicalValue: evaluation.canonical?.value ?? null },
       )
     }
+    const counted = readings.map((r) => {
+      const e = evaluations[r.fieldId]
+      return e ? { ...r, verdict: e.verdict, canonicalValue: e.canonical?.value ?? null } : r
+    })
+    await storeProgress(tx, run.runId, countRows(definition, counted, naStepRows).totals)
     await recordAudit(tx, {
       actorId: change.actor.id,
       action: 'run.rejudged',

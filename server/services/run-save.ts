@@ -2,14 +2,14 @@ import { isDeepStrictEqual } from 'node:util'
 import type { EntityManager } from 'typeorm'
 import type { ChecklistDefinition } from '@shared/schemas/checklist'
 import type { SessionUser } from '@shared/types/api'
-import type { RunState } from '@shared/types/run'
+import type { RunProgress, RunState } from '@shared/types/run'
 import type { Equipment, Project, Reading, RunStep } from '../entities'
 import type { AuditEntry } from './audit.service'
 import { evaluateAll } from './run-record'
 
 /**
  * The statements of a save, written as SQL so that a save is a small fixed number of them on the transaction's one
- * connection (run.service.ts `setReading`; counted in tests/server/save-statements.test.ts).
+ * connection (run.service.ts `setReading`; counted in tests/server/run-statements.test.ts).
  */
 
 /** The run, locked for this change, with what it is judged by and whether the person may reach it. */
@@ -152,14 +152,24 @@ export async function writeReadings(tx: EntityManager, runId: string, rows: Read
   )
 }
 
+/** One statement: the run's counts kept for the run list (a step set aside, a re-judged run, a new run). */
+export async function storeProgress(tx: EntityManager, runId: string, progress: RunProgress): Promise<void> {
+  await tx.query(
+    `INSERT INTO run_progress (run_id, progress) VALUES ($1, $2::jsonb) ON CONFLICT (run_id) DO UPDATE SET progress = EXCLUDED.progress`,
+    [runId, JSON.stringify(progress)],
+  )
+}
+
 /**
  * One statement: the change id recorded (a retry of it is then answered as a duplicate), and, when something changed,
- * the audit event and the run's last-changed time.
+ * the audit event, the run's last-changed time and its counts.
  */
 export async function recordChange(
   tx: EntityManager,
   change: { changeId: string; runId: string; target: 'reading' | 'step'; targetId: string; userId: string; at: Date },
   audit: (AuditEntry & { occurredAt: Date }) | null,
+  /** The run's counts after the change, kept in run_progress for the run list (null: unchanged). */
+  progress: RunProgress | null,
 ): Promise<void> {
   await tx.query(
     `WITH change AS (
@@ -167,6 +177,9 @@ export async function recordChange(
      ), audit AS (
        INSERT INTO audit_event (actor_id, action, entity_type, entity_id, project_id, before, after, occurred_at)
        SELECT $7, $8, $9, $10, $11, $12::jsonb, $13::jsonb, $6 WHERE $14::boolean
+     ), progress AS (
+       INSERT INTO run_progress (run_id, progress) SELECT $2, $15::jsonb WHERE $15::jsonb IS NOT NULL
+       ON CONFLICT (run_id) DO UPDATE SET progress = EXCLUDED.progress
      )
      UPDATE run SET updated_at = $6 WHERE id = $2 AND $14::boolean`,
     [
@@ -184,6 +197,7 @@ export async function recordChange(
       audit?.before ? JSON.stringify(audit.before) : null,
       audit?.after ? JSON.stringify(audit.after) : null,
       audit !== null,
+      progress ? JSON.stringify(progress) : null,
     ],
   )
 }

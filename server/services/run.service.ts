@@ -1,6 +1,6 @@
 import { siteBarometric } from '@shared/engineering'
 import { isDeepStrictEqual } from 'node:util'
-import { DataSource, In, type EntityManager } from 'typeorm'
+import { DataSource, In, type EntityManager, type Repository } from 'typeorm'
 import * as yup from 'yup'
 import type { ChecklistDefinition } from '@shared/schemas/checklist'
 import { describeDisposition, dispositionOf, fieldPlaces, runDetailFromSnapshot, safetyStop, signatureRecord } from '@shared/record'
@@ -11,6 +11,7 @@ import type { SessionUser } from '@shared/types/api'
 import {
   EDITABLE_RUN_STATES,
   type ReadingSaved,
+  type RunProgress,
   type RunDetail,
   type RunReading,
   type RunState,
@@ -23,7 +24,7 @@ import { fieldErrors } from '../middleware/validate'
 import { recordAudit } from './audit.service'
 import { attachmentViews, countRows, displayNames, evaluateAll, findingViews, keptSnapshot, MissingSnapshotError, readingView, signedSnapshotHash, stepView } from './run-record'
 import { systemClock, type Clock } from './clock'
-import { lockedRunForChange, readingRows, recordChange, rejudged, stepRows, writeReadings } from './run-save'
+import { lockedRunForChange, readingRows, recordChange, rejudged, stepRows, storeProgress, writeReadings } from './run-save'
 import type { ProjectService } from './project.service'
 
 /** The run page's first statement: the run with what it is shown and judged with, and whether the person may see it. */
@@ -147,6 +148,7 @@ export class RunService {
       )
       const steps = definition.sections.flatMap((s) => s.steps.map((st) => ({ runId: run.id, stepId: st.id })))
       await tx.getRepository(RunStep).insert(steps)
+      await storeProgress(tx, run.id, countRows(definition, blank.map((r) => ({ ...r, verdict: evaluations[r.fieldId].verdict, canonicalValue: evaluations[r.fieldId].canonical?.value ?? null, disposition: null, notApplicable: false, naReason: null })), []).totals)
       await recordAudit(tx, {
         actorId: user.id,
         action: 'run.start',
@@ -164,12 +166,12 @@ export class RunService {
   private async summaries(runs: Run[]): Promise<RunSummary[]> {
     if (!runs.length) return []
     const ids = runs.map((r) => r.id)
-    const [projects, equipment, versions, readings, steps, openFindings, issued] = await Promise.all([
+    const [projects, equipment, versions, kept, openFindings, issued] = await Promise.all([
       this.db.getRepository(Project).findBy({ id: In([...new Set(runs.map((r) => r.projectId))]) }),
       this.db.getRepository(Equipment).findBy({ id: In([...new Set(runs.map((r) => r.equipmentId))]) }),
-      this.db.getRepository(TemplateVersion).findBy({ id: In([...new Set(runs.map((r) => r.templateVersionId))]) }),
-      this.db.getRepository(Reading).find({ where: { runId: In(ids) }, select: { runId: true, fieldId: true, verdict: true, canonicalValue: true, notApplicable: true, naReason: true, disposition: true } }),
-      this.db.getRepository(RunStep).find({ where: { runId: In(ids), notApplicable: true }, select: { runId: true, stepId: true, notApplicable: true, naReason: true, disposition: true } }),
+      this.db.getRepository(TemplateVersion).find({ where: { id: In([...new Set(runs.map((r) => r.templateVersionId))]) }, select: { id: true, templateId: true, number: true } }),
+      // Each run's counts as its last change left them (run_progress), not every reading of every run.
+      this.db.query(`SELECT run_id, progress FROM run_progress WHERE run_id = ANY($1::uuid[])`, [ids]) as Promise<{ run_id: string; progress: RunProgress }[]>,
       this.db.query(`SELECT run_id, count(*)::int AS n FROM finding WHERE run_id = ANY($1::uuid[]) AND status = 'open' GROUP BY run_id`, [ids]) as Promise<{ run_id: string; n: number }[]>,
       // An accepted run is named as it was issued (its report keeps the signed snapshot's identity), not as renamed since.
       this.db.getRepository(Report).find({ where: { runId: In(ids) }, select: { runId: true, equipmentTag: true, equipmentKind: true, projectCode: true, projectName: true } }),
@@ -178,9 +180,10 @@ export class RunService {
     const names = await this.names(runs.map((r) => r.startedBy))
     const byId = <T extends { id: string }>(list: T[]) => new Map(list.map((x) => [x.id, x]))
     const [pMap, eMap, vMap, tMap] = [byId(projects), byId(equipment), byId(versions), byId(templates)]
+    const progress = new Map(kept.map((k) => [k.run_id, k.progress]))
+    for (const run of runs.filter((r) => !progress.has(r.id))) progress.set(run.id, await this.countedNow(run))
     return runs.map((run) => {
       const version = vMap.get(run.templateVersionId)!
-      const definition = version.definition as unknown as ChecklistDefinition
       const project = pMap.get(run.projectId)!
       const eq = eMap.get(run.equipmentId)!
       const report = run.state === 'accepted' ? issued.find((r) => r.runId === run.id) : undefined
@@ -200,14 +203,57 @@ export class RunService {
         startedAt: run.startedAt.toISOString(),
         startedByName: run.startedBy ? (names.get(run.startedBy) ?? null) : null,
         updatedAt: run.updatedAt.toISOString(),
-        progress: countRows(definition, readings.filter((r) => r.runId === run.id), steps.filter((s) => s.runId === run.id)).totals,
+        progress: progress.get(run.id)!,
         openFindings: openFindings.find((f) => f.run_id === run.id)?.n ?? 0,
       }
     })
   }
 
+  /** A run's counts from its stored rows, kept for the next list (a run written before counts were kept). */
+  private async countedNow(run: Run): Promise<RunProgress> {
+    const [definition, readings, steps] = await Promise.all([
+      this.definitionOf(this.db.manager, run.templateVersionId),
+      this.db.getRepository(Reading).find({ where: { runId: run.id }, select: { fieldId: true, verdict: true, canonicalValue: true, notApplicable: true, naReason: true, disposition: true } }),
+      this.db.getRepository(RunStep).find({ where: { runId: run.id, notApplicable: true }, select: { stepId: true, notApplicable: true, naReason: true, disposition: true } }),
+    ])
+    const totals = countRows(definition, readings, steps).totals
+    await this.db.query(`INSERT INTO run_progress (run_id, progress) VALUES ($1, $2::jsonb) ON CONFLICT (run_id) DO NOTHING`, [run.id, JSON.stringify(totals)])
+    return totals
+  }
+
+  /** Runs the person may see, newest change first, a page at a time (keyset on updated_at, id); `nextCursor` reads on. */
+  async listPage(
+    user: SessionUser,
+    query: { state?: RunState; projectId?: string; equipmentId?: string; mine?: boolean; limit?: number; cursor?: string },
+  ): Promise<{ runs: RunSummary[]; nextCursor: string | null }> {
+    const limit = query.limit ?? RUN_PAGE_SIZE
+    const qb = this.db.getRepository(Run).createQueryBuilder('r').orderBy('r.updated_at', 'DESC').addOrderBy('r.id', 'DESC').limit(limit + 1)
+    if (query.cursor) {
+      const at = decodeRunCursor(query.cursor)
+      qb.andWhere('(r.updated_at, r.id) < (CAST(:cursorAt AS timestamptz), CAST(:cursorId AS uuid))', { cursorAt: at.updatedAt, cursorId: at.id })
+    }
+    this.scope(qb, user, query)
+    // The cursor keeps the microseconds PostgreSQL stores (a JavaScript Date has milliseconds only).
+    qb.addSelect(`to_char(r.updated_at AT TIME ZONE 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.US"Z"')`, 'cursor_at')
+    const { entities, raw } = await qb.getRawAndEntities<{ cursor_at: string }>()
+    const page = entities.slice(0, limit)
+    const last = page.length ? { updatedAt: raw[page.length - 1].cursor_at, id: page[page.length - 1].id } : null
+    return { runs: await this.summaries(page), nextCursor: entities.length > limit && last ? encodeRunCursor(last) : null }
+  }
+
+  /** Every run the person may see for one equipment item or filter (all pages). */
   async list(user: SessionUser, query: { state?: RunState; projectId?: string; equipmentId?: string; mine?: boolean }): Promise<RunSummary[]> {
-    const qb = this.db.getRepository(Run).createQueryBuilder('r').orderBy('r.updated_at', 'DESC').limit(500)
+    const out: RunSummary[] = []
+    let cursor: string | undefined
+    do {
+      const page = await this.listPage(user, { ...query, cursor, limit: 200 })
+      out.push(...page.runs)
+      cursor = page.nextCursor ?? undefined
+    } while (cursor)
+    return out
+  }
+
+  private scope(qb: ReturnType<Repository<Run>['createQueryBuilder']>, user: SessionUser, query: { state?: RunState; projectId?: string; equipmentId?: string; mine?: boolean }) {
     if (user.role === 'admin') {
       qb.innerJoin(Project, 'p', 'p.id = r.project_id AND p.organization_id = (SELECT organization_id FROM app_user WHERE id = :uid)', { uid: user.id })
     } else {
@@ -220,7 +266,6 @@ export class RunService {
     if (query.mine) {
       qb.andWhere('(r.started_by = :uid OR EXISTS (SELECT 1 FROM run_change c WHERE c.run_id = r.id AND c.user_id = :uid))', { uid: user.id })
     }
-    return this.summaries(await qb.getMany())
   }
 
   private async readingViews(readings: Reading[]): Promise<Record<string, RunReading>> {
@@ -471,8 +516,9 @@ export class RunService {
             after: { entry: current.entry, disposition: current.disposition, justification: current.justification, verdict: current.verdict },
             occurredAt: now,
           }
-      await recordChange(tx, { changeId: input.changeId, runId, target: 'reading', targetId: fieldId, userId: user.id, at: now }, audit)
-      return answer(changed.length ? changed : [current])
+      const saved = answer(changed.length ? changed : [current])
+      await recordChange(tx, { changeId: input.changeId, runId, target: 'reading', targetId: fieldId, userId: user.id, at: now }, audit, changed.length ? saved.progress : null)
+      return saved
     })
   }
 
@@ -527,8 +573,13 @@ export class RunService {
         await repo.save(step)
         if ((before.disposition !== null) !== step.notApplicable) {
           const readings = await tx.getRepository(Reading).findBy({ runId })
-          const naSteps = new Set((await repo.findBy({ runId, notApplicable: true })).map((s) => s.stepId))
-          await this.rejudge(tx, ctx, readings, naSteps)
+          const naStepRows = await repo.findBy({ runId, notApplicable: true })
+          await this.rejudge(tx, ctx, readings, new Set(naStepRows.map((s) => s.stepId)))
+          await storeProgress(tx, runId, countRows(ctx.definition, readings, naStepRows).totals)
+        } else if (!isDeepStrictEqual(before.disposition, next.disposition)) {
+          // Another kind of set-aside (deferred, done by others) counts differently, with the same verdicts.
+          const readings = await tx.getRepository(Reading).find({ where: { runId }, select: { fieldId: true, verdict: true, canonicalValue: true, disposition: true, notApplicable: true, naReason: true } })
+          await storeProgress(tx, runId, countRows(ctx.definition, readings, await repo.findBy({ runId, notApplicable: true })).totals)
         }
         await recordAudit(tx, { actorId: user.id, action: 'step.set', entityType: 'run_step', entityId: `${runId}/${stepId}`, projectId: ctx.run.projectId, before, after: { note: next.note, disposition: next.disposition }, occurredAt: now })
         await tx.query(`UPDATE run SET updated_at = $2 WHERE id = $1`, [runId, now])
@@ -552,6 +603,24 @@ export class RunService {
     return rows.map((r) => ({ occurredAt: r.occurred_at.toISOString(), actor: r.actor, action: r.action, target: r.entity_id, before: r.before, after: r.after }))
   }
 
+}
+
+/** Runs per page of the run list unless the request asks for fewer or more (at most 200). */
+export const RUN_PAGE_SIZE = 100
+
+/** An opaque cursor: the last run's change time (to the microsecond, as PostgreSQL keeps it) and id. */
+function encodeRunCursor(last: { updatedAt: string; id: string }): string {
+  return Buffer.from(JSON.stringify([last.updatedAt, last.id])).toString('base64url')
+}
+
+function decodeRunCursor(cursor: string): { updatedAt: string; id: string } {
+  try {
+    const [updatedAt, id] = JSON.parse(Buffer.from(cursor, 'base64url').toString('utf8')) as unknown[]
+    if (typeof updatedAt === 'string' && !Number.isNaN(Date.parse(updatedAt)) && typeof id === 'string' && /^[0-9a-f-]{36}$/i.test(id)) return { updatedAt, id }
+  } catch {
+    // falls through to the 400
+  }
+  throw new AppError('invalid_cursor', 'cursor is not one this list gave out; start again from the first page', 400, { cursor: 'Not a cursor from this list' })
 }
 
 function describeEntry(entry: Record<string, unknown> | null): string {

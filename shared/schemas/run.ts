@@ -126,6 +126,8 @@ export const runListQuerySchema = yup
     projectId: yup.string().matches(uuid, 'projectId must be a UUID').optional(),
     equipmentId: yup.string().matches(uuid, 'equipmentId must be a UUID').optional(),
     mine: yup.boolean().optional(),
+    limit: yup.number().typeError('limit must be a whole number from 1 to 200').integer('limit must be a whole number from 1 to 200').min(1, 'limit must be a whole number from 1 to 200').max(200, 'limit must be a whole number from 1 to 200').optional(),
+    cursor: yup.string().max(200, 'cursor is not one this list gave out').optional(),
   })
   .noUnknown()
 

@@ -183,3 +183,62 @@ describe('overload', () => {
     }
   })
 })
+
+describe('the run list', () => {
+  it('when there are more runs than a page, then pages follow each other newest first with none missed or repeated, progress comes from the kept counts, and a bad cursor is a 400', async () => {
+    const { techAgent, run, definition } = await startedRun()
+    const equipmentId = run.equipmentId
+    const templateId = run.templateId
+    const ids = [run.id]
+    for (let i = 0; i < 6; i++) ids.push((await techAgent.post(`/api/equipment/${equipmentId}/runs`).send({ templateId }).expect(201)).body.run.id)
+    // Two runs changed in the same millisecond would still be told apart by their id.
+    await ctx.db.query(`UPDATE run SET updated_at = '2026-11-30T08:00:00.123456Z' WHERE id = ANY($1::uuid[])`, [ids.slice(2, 5)])
+    const first = await save(techAgent, run.id, 'safetyBriefing', { value: true }, 0).expect(200)
+
+    const seen: string[] = []
+    let cursor: string | null = null
+    let pages = 0
+    do {
+      const res = await techAgent.get(`/api/runs?limit=2${cursor ? `&cursor=${cursor}` : ''}`).expect(200)
+      expect(res.body.runs.length).toBeLessThanOrEqual(2)
+      seen.push(...res.body.runs.map((r: { id: string }) => r.id))
+      cursor = res.body.nextCursor
+      pages += 1
+    } while (cursor)
+    expect(pages).toBe(4)
+    expect(seen).toHaveLength(7)
+    expect(new Set(seen)).toEqual(new Set(ids))
+    // The saved run changed last, so it leads, with the counts its save answered.
+    expect(seen[0]).toBe(run.id)
+    const listed = (await techAgent.get('/api/runs?limit=1').expect(200)).body.runs[0]
+    expect(listed.progress).toEqual(first.body.progress)
+    expect(listed.progress.answered).toBe(1)
+    expect(definition.sections.length).toBeGreaterThan(0)
+
+    const bad = await techAgent.get('/api/runs?cursor=bm90LWEtY3Vyc29y').expect(400)
+    expect(bad.body.error.fields).toHaveProperty('cursor')
+    expect((await techAgent.get('/api/runs?limit=0')).status).toBe(400)
+    expect((await techAgent.get('/api/runs?limit=201')).status).toBe(400)
+  })
+
+  it('when the run audit trail is asked for, then PostgreSQL can serve it from an index rather than reading every event', async () => {
+    const plans = (await ctx.db.query(
+      `EXPLAIN SELECT e.id FROM audit_event e
+        WHERE e.project_id = $1 AND (e.entity_id = $2 OR e.entity_id LIKE $2 || '/%' OR (e.after ->> 'runId') = $2)`,
+      ['00000000-0000-0000-0000-000000000001', '00000000-0000-0000-0000-000000000002'],
+    )) as { 'QUERY PLAN': string }[]
+    // With the planner told not to scan sequentially, a plan that still must is a missing index.
+    await ctx.db.transaction(async (tx) => {
+      await tx.query('SET LOCAL enable_seqscan = off')
+      const forced = (await tx.query(
+        `EXPLAIN SELECT e.id FROM audit_event e
+          WHERE e.project_id = $1 AND (e.entity_id = $2 OR e.entity_id LIKE $2 || '/%' OR (e.after ->> 'runId') = $2)`,
+        ['00000000-0000-0000-0000-000000000001', '00000000-0000-0000-0000-000000000002'],
+      )) as { 'QUERY PLAN': string }[]
+      const text = forced.map((p) => p['QUERY PLAN']).join('\n')
+      expect(text, text).toMatch(/Index|Bitmap/)
+      expect(text, text).not.toMatch(/Seq Scan on audit_event/)
+    })
+    expect(plans.length).toBeGreaterThan(0)
+  })
+})
