@@ -199,7 +199,7 @@ describe('the run list', () => {
     let cursor: string | null = null
     let pages = 0
     do {
-      const res = await techAgent.get(`/api/runs?limit=2${cursor ? `&cursor=${cursor}` : ''}`).expect(200)
+      const res: { body: { runs: { id: string }[]; nextCursor: string | null } } = await techAgent.get(`/api/runs?limit=2${cursor ? `&cursor=${cursor}` : ''}`).expect(200)
       expect(res.body.runs.length).toBeLessThanOrEqual(2)
       seen.push(...res.body.runs.map((r: { id: string }) => r.id))
       cursor = res.body.nextCursor
