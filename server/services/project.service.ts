@@ -50,21 +50,24 @@ const plural = (n: number, one: string, many = `${one}s`) => `${n} ${n === 1 ? o
 export class ProjectService {
   constructor(private readonly db: DataSource) {}
 
-  async isMember(userId: string, projectId: string): Promise<boolean> {
-    return this.db.getRepository(ProjectMember).existsBy({ userId, projectId })
+  async isMember(userId: string, projectId: string, manager: EntityManager = this.db.manager): Promise<boolean> {
+    return manager.getRepository(ProjectMember).existsBy({ userId, projectId })
   }
 
-  /** Whether `user` may read project `projectId` at all (admins of the owning firm, or members). */
-  async canAccess(user: SessionUser, projectId: string): Promise<boolean> {
+  /**
+   * Whether `user` may read project `projectId` at all (admins of the owning firm, or members). Inside a transaction
+   * pass its manager: the check then runs on the transaction's connection instead of waiting for a second one.
+   */
+  async canAccess(user: SessionUser, projectId: string, manager: EntityManager = this.db.manager): Promise<boolean> {
     if (user.role === 'admin') {
-      const rows: { ok: boolean }[] = await this.db.query(
+      const rows: { ok: boolean }[] = await manager.query(
         `SELECT EXISTS (SELECT 1 FROM project p JOIN app_user u ON u.organization_id = p.organization_id
                          WHERE p.id = $1 AND u.id = $2) AS ok`,
         [projectId, user.id],
       )
       return rows[0].ok
     }
-    return this.isMember(user.id, projectId)
+    return this.isMember(user.id, projectId, manager)
   }
 
   private async summaries(ids: string[]): Promise<ProjectSummary[]> {

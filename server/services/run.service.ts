@@ -90,7 +90,7 @@ export class RunService {
   /** Loads a run and what it is judged with; 404 when the user may not see it. `lock` serialises changes to one run. */
   async context(user: SessionUser, runId: string, manager: EntityManager = this.db.manager, lock = false): Promise<RunContext> {
     const run = await manager.getRepository(Run).findOne({ where: { id: runId }, ...(lock ? { lock: { mode: 'pessimistic_write' as const } } : {}) })
-    if (!run || !(await this.projects.canAccess(user, run.projectId)) || !this.mayRead(user, run.state)) throw AppError.notFound('Run')
+    if (!run || !(await this.projects.canAccess(user, run.projectId, manager)) || !this.mayRead(user, run.state)) throw AppError.notFound('Run')
     return this.contextOf(run, manager)
   }
 
@@ -116,7 +116,7 @@ export class RunService {
     if (user.role !== 'technician') throw AppError.forbidden('Only a commissioning technician starts a run')
     const runId = await this.db.transaction(async (tx) => {
       const equipment = await tx.getRepository(Equipment).findOneBy({ id: equipmentId })
-      if (!equipment || !(await this.projects.canAccess(user, equipment.projectId))) throw AppError.notFound('Equipment')
+      if (!equipment || !(await this.projects.canAccess(user, equipment.projectId, tx))) throw AppError.notFound('Equipment')
       const project = await tx.getRepository(Project).findOneByOrFail({ id: equipment.projectId })
       if (project.closedAt) {
         throw new AppError('project_closed', `Project ${project.code} is closed; an admin reopens it before a new run starts (its reports stay readable)`, 409)
