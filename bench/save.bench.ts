@@ -10,6 +10,7 @@
 //              SAVE_BENCH_SECONDS=15      measured time per target and writer count
 //              SAVE_BENCH_WARMUP_SECONDS=3  unmeasured closed loop before each measurement
 //              SAVE_BENCH_TIMEOUT_SECONDS=60  a save unanswered this long counts as a network error
+//              SAVE_BENCH_PROFILE=dir     V8 CPU profiles of the two servers, written there when they stop
 // --strict exits 1 when a goal is missed (otherwise the goals are only printed).
 import { spawn, type ChildProcess } from 'node:child_process'
 import { randomBytes, randomUUID } from 'node:crypto'
@@ -101,7 +102,9 @@ for (const signal of ['SIGINT', 'SIGTERM'] as const) {
 
 /** Starts a TypeScript file of bench/lib as a child process with tsx; resolves with the port it reports over IPC. */
 function startChild(name: string, file: string, env: Record<string, string>): Promise<{ child: ChildProcess; port: number }> {
-  const child = spawn(process.execPath, ['--import', 'tsx', path.join(import.meta.dirname, 'lib', file)], {
+  // SAVE_BENCH_PROFILE=dir writes a V8 CPU profile of each server child there when it stops (for finding where time goes).
+  const profile = process.env.SAVE_BENCH_PROFILE ? ['--cpu-prof', '--cpu-prof-dir', path.resolve(process.env.SAVE_BENCH_PROFILE)] : []
+  const child = spawn(process.execPath, [...profile, '--import', 'tsx', path.join(import.meta.dirname, 'lib', file)], {
     cwd: path.join(import.meta.dirname, '..'),
     // Only what the child needs: settings from the calling shell (DATABASE_URL, rate limits …) must not leak in.
     env: { PATH: process.env.PATH ?? '', HOME: process.env.HOME ?? os.tmpdir(), ...env },
