@@ -27,16 +27,23 @@ export interface LockedRun {
   duplicate: boolean
   /** The run's steps marked not applicable (or otherwise set aside). */
   na_steps: { stepId: string; disposition: unknown; notApplicable: boolean; naReason: string | null }[]
+  /** Every reading of the run; `evaluation` only for the fields asked for (null: every field). */
+  readings: ReadingRow[]
 }
 
-/** One statement: the run row locked (FOR UPDATE), its project's units and site, equipment design point, version, access. */
+/**
+ * One statement: the run row locked (FOR UPDATE), its project's units and site, equipment design point, version,
+ * access, whether the change was applied before, its set-aside steps, and its readings with their authors' names. The
+ * stored evaluations (the bulk of a reading) come only for `evaluationsOf`, the fields a save can change; null asks for all.
+ */
 export async function lockedRunForChange(
   tx: EntityManager,
   user: SessionUser,
   runId: string,
   change: { changeId: string; target: 'reading' | 'step'; targetId: string },
+  evaluationsOf: ReadonlySet<string> | null,
 ): Promise<LockedRun | null> {
-  const rows: LockedRun[] = await tx.query(
+  const rows: (Omit<LockedRun, 'readings'> & { readings: (Omit<ReadingRow, 'updatedAt'> & { updatedAt: string | null })[] | null })[] = await tx.query(
     `SELECT r.id, r.project_id, r.template_version_id, r.state, v.number AS version_number, t.name AS template_name,
             e.design_point,
             json_build_object('unitSystem', p.unit_system, 'siteElevationM', p.site_elevation_m, 'barometricKpa', p.barometric_kpa) AS project,
@@ -45,7 +52,12 @@ export async function lockedRunForChange(
                  ELSE EXISTS (SELECT 1 FROM project_member m WHERE m.project_id = p.id AND m.user_id = $2) END AS allowed,
             EXISTS (SELECT 1 FROM run_change c WHERE c.id = $4 AND c.run_id = r.id AND c.target = $5 AND c.target_id = $6) AS duplicate,
             COALESCE((SELECT json_agg(json_build_object('stepId', s.step_id, 'disposition', s.disposition, 'notApplicable', s.not_applicable, 'naReason', s.na_reason))
-                        FROM run_step s WHERE s.run_id = r.id AND s.not_applicable), '[]'::json) AS na_steps
+                        FROM run_step s WHERE s.run_id = r.id AND s.not_applicable), '[]'::json) AS na_steps,
+            (SELECT json_agg(json_build_object('runId', rd.run_id, 'fieldId', rd.field_id, 'entry', rd.entry, 'canonicalValue', rd.canonical_value,
+                    'verdict', rd.verdict, 'evaluation', CASE WHEN $7::text[] IS NULL OR rd.field_id = ANY($7::text[]) THEN rd.evaluation END,
+                    'disposition', rd.disposition, 'notApplicable', rd.not_applicable, 'naReason', rd.na_reason, 'justification', rd.justification,
+                    'version', rd.version, 'updatedBy', rd.updated_by, 'updatedAt', rd.updated_at, 'updatedByName', u.display_name))
+               FROM reading rd LEFT JOIN app_user u ON u.id = rd.updated_by WHERE rd.run_id = r.id) AS readings
        FROM run r
        JOIN project p ON p.id = r.project_id
        JOIN equipment e ON e.id = r.equipment_id
@@ -53,9 +65,11 @@ export async function lockedRunForChange(
        JOIN checklist_template t ON t.id = v.template_id
       WHERE r.id = $1
         FOR UPDATE OF r`,
-    [runId, user.id, user.role, change.changeId, change.target, change.targetId],
+    [runId, user.id, user.role, change.changeId, change.target, change.targetId, evaluationsOf ? [...evaluationsOf] : null],
   )
-  return rows[0] ?? null
+  const row = rows[0]
+  if (!row) return null
+  return { ...row, readings: (row.readings ?? []).map((r) => ({ ...r, updatedAt: r.updatedAt ? new Date(r.updatedAt) : null })) as ReadingRow[] }
 }
 
 export type ReadingRow = Reading & { updatedByName: string | null }
@@ -110,13 +124,17 @@ export function rejudged(
   return changed
 }
 
-/**
- * One statement: the saved field's new content (when `ownFieldId` is given) and every changed verdict, written
- * together from a JSON record set. Nothing when no row changed.
- */
-export async function writeReadings(tx: EntityManager, runId: string, rows: Reading[], ownFieldId: string | null): Promise<void> {
-  if (!rows.length) return
-  const records = rows.map((r) => ({
+/** One statement: the run's counts kept for the run list (a step set aside, a re-judged run, a new run). */
+export async function storeProgress(tx: EntityManager, runId: string, progress: RunProgress): Promise<void> {
+  await tx.query(
+    `INSERT INTO run_progress (run_id, progress) VALUES ($1, $2::jsonb) ON CONFLICT (run_id) DO UPDATE SET progress = EXCLUDED.progress`,
+    [runId, JSON.stringify(progress)],
+  )
+}
+
+/** The saved field's new content and every changed verdict, as the JSON record set `recordChange` writes. */
+function readingRecords(rows: Reading[], ownFieldId: string | null) {
+  return rows.map((r) => ({
     field_id: r.fieldId,
     own: r.fieldId === ownFieldId,
     entry: r.entry,
@@ -131,38 +149,12 @@ export async function writeReadings(tx: EntityManager, runId: string, rows: Read
     verdict: r.verdict,
     canonical_value: r.canonicalValue,
   }))
-  // jsonb_to_recordset keeps a JSON null as the jsonb value 'null'; NULLIF stores it as SQL NULL, as the entity does.
-  await tx.query(
-    `UPDATE reading AS r SET
-        evaluation = v.evaluation,
-        verdict = v.verdict,
-        canonical_value = v.canonical_value,
-        entry = CASE WHEN v.own THEN NULLIF(v.entry, 'null'::jsonb) ELSE r.entry END,
-        disposition = CASE WHEN v.own THEN NULLIF(v.disposition, 'null'::jsonb) ELSE r.disposition END,
-        not_applicable = CASE WHEN v.own THEN v.not_applicable ELSE r.not_applicable END,
-        na_reason = CASE WHEN v.own THEN v.na_reason ELSE r.na_reason END,
-        justification = CASE WHEN v.own THEN v.justification ELSE r.justification END,
-        version = CASE WHEN v.own THEN v.version ELSE r.version END,
-        updated_by = CASE WHEN v.own THEN v.updated_by ELSE r.updated_by END,
-        updated_at = CASE WHEN v.own THEN v.updated_at ELSE r.updated_at END
-       FROM jsonb_to_recordset($2::jsonb) AS v(field_id text, own boolean, entry jsonb, disposition jsonb, not_applicable boolean, na_reason text,
-            justification text, version integer, updated_by uuid, updated_at timestamptz, evaluation jsonb, verdict text, canonical_value double precision)
-      WHERE r.run_id = $1 AND r.field_id = v.field_id`,
-    [runId, JSON.stringify(records)],
-  )
-}
-
-/** One statement: the run's counts kept for the run list (a step set aside, a re-judged run, a new run). */
-export async function storeProgress(tx: EntityManager, runId: string, progress: RunProgress): Promise<void> {
-  await tx.query(
-    `INSERT INTO run_progress (run_id, progress) VALUES ($1, $2::jsonb) ON CONFLICT (run_id) DO UPDATE SET progress = EXCLUDED.progress`,
-    [runId, JSON.stringify(progress)],
-  )
 }
 
 /**
- * One statement: the change id recorded (a retry of it is then answered as a duplicate), and, when something changed,
- * the audit event, the run's last-changed time and its counts.
+ * One statement for everything a save writes: the saved field's new content (when `ownFieldId` is given) and every
+ * changed verdict from one JSON record set, the change id (a retry of it is then answered as a duplicate), and, when
+ * something changed, the audit event, the run's last-changed time and its counts.
  */
 export async function recordChange(
   tx: EntityManager,
@@ -170,9 +162,27 @@ export async function recordChange(
   audit: (AuditEntry & { occurredAt: Date }) | null,
   /** The run's counts after the change, kept in run_progress for the run list (null: unchanged). */
   progress: RunProgress | null,
+  readings: { rows: Reading[]; ownFieldId: string | null } = { rows: [], ownFieldId: null },
 ): Promise<void> {
+  // jsonb_to_recordset keeps a JSON null as the jsonb value 'null'; NULLIF stores it as SQL NULL, as the entity does.
   await tx.query(
-    `WITH change AS (
+    `WITH written AS (
+       UPDATE reading AS r SET
+          evaluation = v.evaluation,
+          verdict = v.verdict,
+          canonical_value = v.canonical_value,
+          entry = CASE WHEN v.own THEN NULLIF(v.entry, 'null'::jsonb) ELSE r.entry END,
+          disposition = CASE WHEN v.own THEN NULLIF(v.disposition, 'null'::jsonb) ELSE r.disposition END,
+          not_applicable = CASE WHEN v.own THEN v.not_applicable ELSE r.not_applicable END,
+          na_reason = CASE WHEN v.own THEN v.na_reason ELSE r.na_reason END,
+          justification = CASE WHEN v.own THEN v.justification ELSE r.justification END,
+          version = CASE WHEN v.own THEN v.version ELSE r.version END,
+          updated_by = CASE WHEN v.own THEN v.updated_by ELSE r.updated_by END,
+          updated_at = CASE WHEN v.own THEN v.updated_at ELSE r.updated_at END
+         FROM jsonb_to_recordset($16::jsonb) AS v(field_id text, own boolean, entry jsonb, disposition jsonb, not_applicable boolean, na_reason text,
+              justification text, version integer, updated_by uuid, updated_at timestamptz, evaluation jsonb, verdict text, canonical_value double precision)
+        WHERE r.run_id = $2 AND r.field_id = v.field_id
+     ), change AS (
        INSERT INTO run_change (id, run_id, target, target_id, user_id, applied_at) VALUES ($1, $2, $3, $4, $5, $6)
      ), audit AS (
        INSERT INTO audit_event (actor_id, action, entity_type, entity_id, project_id, before, after, occurred_at)
@@ -198,6 +208,7 @@ export async function recordChange(
       audit?.after ? JSON.stringify(audit.after) : null,
       audit !== null,
       progress ? JSON.stringify(progress) : null,
+      JSON.stringify(readingRecords(readings.rows, readings.ownFieldId)),
     ],
   )
 }

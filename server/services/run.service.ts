@@ -24,7 +24,7 @@ import { fieldErrors } from '../middleware/validate'
 import { recordAudit } from './audit.service'
 import { attachmentViews, countRows, displayNames, evaluateAll, findingViews, keptSnapshot, MissingSnapshotError, readingView, signedSnapshotHash, stepView } from './run-record'
 import { systemClock, type Clock } from './clock'
-import { lockedRunForChange, readingRows, recordChange, rejudged, stepRows, storeProgress, writeReadings } from './run-save'
+import { lockedRunForChange, readingRows, recordChange, rejudged, stepRows, storeProgress } from './run-save'
 import type { ProjectService } from './project.service'
 
 /** The run page's first statement: the run with what it is shown and judged with, and whether the person may see it. */
@@ -418,20 +418,26 @@ export class RunService {
 
   /**
    * Saves one field's entry (or its not-applicable state), re-judges the fields that depend on it, and records the
-   * change, in one short transaction of a fixed handful of statements on one connection: the locked run with what it
-   * is judged by (and whether this change id was applied before), its readings, one UPDATE of every reading whose
-   * value or verdict changed, and one statement for the change id, the audit event and the run's time. The answer
-   * carries the changed readings and the new progress only.
+   * change, in one short transaction of two statements on one connection (four with BEGIN and COMMIT): the locked run
+   * with what it is judged by, whether this change id was applied before and its readings; then one statement writing
+   * the saved reading, every verdict that followed it, the change id, the audit event, the run's time and its counts.
+   * A photo field checks its attachments with one more. The answer carries the changed readings and the new progress.
    */
   async setReading(user: SessionUser, runId: string, fieldId: string, input: ReadingChangeInput): Promise<ReadingSaved> {
     return this.db.transaction(async (tx) => {
-      const row = await lockedRunForChange(tx, user, runId, { changeId: input.changeId, target: 'reading', targetId: fieldId })
+      // A run's checklist version never changes: once known, the fields this save can change are known before the
+      // first statement, and only their stored evaluations are read.
+      const knownVersion = this.runVersions.get(runId)
+      const knownDefinition = knownVersion ? this.definitions.get(knownVersion) : undefined
+      const wanted = knownDefinition && fieldPlaces(knownDefinition).has(fieldId) ? dependentFields(knownDefinition, fieldId) : null
+      const row = await lockedRunForChange(tx, user, runId, { changeId: input.changeId, target: 'reading', targetId: fieldId }, wanted)
       if (!row || !row.allowed || !this.mayRead(user, row.state)) throw AppError.notFound('Run')
       assertAuthor(user, input.authorId)
       const definition = await this.definitionOf(tx, row.template_version_id)
+      this.rememberRunVersion(runId, row.template_version_id)
       const naStepRows = row.na_steps as { stepId: string; disposition: unknown; notApplicable: boolean; naReason: string | null }[]
       const naSteps = new Set(naStepRows.map((st) => st.stepId))
-      const readings = await readingRows(tx, runId)
+      const readings = row.readings
       const current = readings.find((r) => r.fieldId === fieldId)
       const names = new Map<string, string>(readings.filter((r) => r.updatedBy && r.updatedByName).map((r) => [r.updatedBy!, r.updatedByName!]))
       const answer = (changed: Reading[]): ReadingSaved => ({
@@ -503,7 +509,6 @@ export class RunService {
       // Only the fields that read this one can change verdict (shared/rules/dependencies.ts).
       const changed = rejudged({ definition, equipment: { designPoint: row.design_point }, project: row.project }, readings, naSteps, dependentFields(definition, fieldId))
       if (!unchanged && !changed.includes(current)) changed.unshift(current)
-      await writeReadings(tx, runId, changed, unchanged ? null : fieldId)
       const audit = unchanged
         ? null
         : {
@@ -517,9 +522,21 @@ export class RunService {
             occurredAt: now,
           }
       const saved = answer(changed.length ? changed : [current])
-      await recordChange(tx, { changeId: input.changeId, runId, target: 'reading', targetId: fieldId, userId: user.id, at: now }, audit, changed.length ? saved.progress : null)
+      await recordChange(tx, { changeId: input.changeId, runId, target: 'reading', targetId: fieldId, userId: user.id, at: now }, audit, changed.length ? saved.progress : null, {
+        rows: changed,
+        ownFieldId: unchanged ? null : fieldId,
+      })
       return saved
     })
+  }
+
+  /** Which checklist version each recently saved run is on (it never changes for a run). */
+  private readonly runVersions = new Map<string, string>()
+
+  private rememberRunVersion(runId: string, versionId: string) {
+    if (this.runVersions.has(runId)) return
+    if (this.runVersions.size >= 10_000) this.runVersions.delete(this.runVersions.keys().next().value as string)
+    this.runVersions.set(runId, versionId)
   }
 
   /** A pinned (published, never changing) checklist version's definition, read once per process. */

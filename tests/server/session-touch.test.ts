@@ -14,7 +14,7 @@ function countedStore() {
   return { store, touched }
 }
 
-const sess = (): session.SessionData => ({ cookie: new session.Cookie({ maxAge: 3600_000 }) }) as session.SessionData
+const sess = (): session.SessionData => ({ cookie: Object.assign(new session.Cookie(), { maxAge: 3600_000 }) }) as session.SessionData
 
 describe('throttleTouch', () => {
   it('when a session is used many times a minute, then its stored expiry is written at most once a minute', async () => {
