@@ -74,7 +74,7 @@ const save = (agent: Awaited<ReturnType<typeof startedRun>>['techAgent'], runId:
   agent.put(`/api/runs/${runId}/readings/${fieldId}`).send({ changeId, baseVersion, entry })
 
 describe('saving a reading', () => {
-  it('when a technician saves a reading, then the whole request, session and person included, is 6 statements (the issue's ceiling is 8), the save one transaction of 4 of them', async () => {
+  it('when a technician saves a reading, then the whole request, session and person included, is 6 statements (at most 8 asked for), the save one transaction of 4 of them', async () => {
     const { techAgent, run } = await startedRun()
     // The first save of a version also reads its definition once for the process; count a later one.
     await save(techAgent, run.id, 'safetyBriefing', { value: true }, 0).expect(200)
