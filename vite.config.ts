@@ -27,6 +27,9 @@ export default defineConfig({
     proxy: { '/api': { target: `http://127.0.0.1:${apiPort}`, changeOrigin: false } },
   },
   test: {
+    // Two test files at a time (the machine this runs on has two cores); every server-test worker has a PostgreSQL
+    // cluster of its own (tests/setup/postgres.ts). `--maxWorkers=1` runs everything one file at a time.
+    maxWorkers: 2,
     projects: [
       {
         extends: true,
@@ -38,9 +41,9 @@ export default defineConfig({
           name: 'server',
           include: ['tests/server/**/*.test.ts', 'tests/e2e/**/*.test.ts'],
           environment: 'node',
-          globalSetup: ['tests/setup/postgres.ts', 'tests/setup/client.ts'],
+          // The client build starts first and runs in the background; the browser tests wait for it.
+          globalSetup: ['tests/setup/client.ts', 'tests/setup/browser.ts', 'tests/setup/postgres.ts'],
           setupFiles: ['tests/setup/server-env.ts'],
-          fileParallelism: false,
           testTimeout: 20000,
           hookTimeout: 60000,
         },

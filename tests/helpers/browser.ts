@@ -5,13 +5,16 @@ import puppeteer, { type Browser } from 'puppeteer-core'
 
 export const CHROMIUM = process.env.CHROMIUM_PATH ?? '/usr/bin/chromium'
 
-/** Debian's Chromium, headless, with a fresh profile and none of its background network traffic. */
-export async function launchChromium(): Promise<Browser & { cleanup(): Promise<void> }> {
+/**
+ * Debian's Chromium, headless, with a fresh profile and none of its background network traffic. Driven over a pipe by
+ * default; `pipe: false` opens a DevTools WebSocket instead, for a browser that other processes connect to.
+ */
+export async function launchChromium(options: { pipe?: boolean } = {}): Promise<Browser & { cleanup(): Promise<void> }> {
   const userDataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-chromium-'))
   const browser = await puppeteer.launch({
     executablePath: CHROMIUM,
     headless: true,
-    pipe: true,
+    pipe: options.pipe ?? true,
     userDataDir,
     args: [
       '--no-sandbox',

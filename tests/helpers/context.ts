@@ -2,7 +2,6 @@ import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
 import pg from 'pg'
-import { inject } from 'vitest'
 import request from 'supertest'
 import type { Express } from 'express'
 import type { DataSource } from 'typeorm'
@@ -13,6 +12,7 @@ import { createAppServices, type AppServices } from '../../server/services'
 import { createDataSource, requestPoolOptions } from '../../server/db/data-source'
 import { Organization, Project, ProjectMember, User } from '../../server/entities'
 import { hashPassword } from '../../server/auth/passwords'
+import { ownerDatabaseUrl, testDatabaseUrl } from './cluster'
 
 export interface TestContext {
   db: DataSource
@@ -23,14 +23,17 @@ export interface TestContext {
   close(): Promise<void>
 }
 
-/** A DataSource on the throwaway cluster and an app built on it, as a server process would. */
+/**
+ * A DataSource on this worker's throwaway cluster and an app built on it, as a server process would. It connects to
+ * the worker's `startproof_test` unless `env.DATABASE_URL` names another database (e.g. one from `cloneDatabase()`).
+ */
 export async function createTestContext(env: Record<string, string> = {}): Promise<TestContext> {
   const storageDir = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-files-'))
   // A seal certificate of the test's own, never one in the checkout's data/ that `npm start` would then sign with.
   const certDir = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-certs-'))
   const config = loadConfig({
     NODE_ENV: 'test',
-    DATABASE_URL: inject('databaseUrl'),
+    DATABASE_URL: testDatabaseUrl(),
     CLIENT_DIST: '/nonexistent-startproof-client',
     STORAGE_DIR: storageDir,
     CERT_DIR: certDir,
@@ -58,9 +61,10 @@ export async function createTestContext(env: Record<string, string> = {}): Promi
  * triggers and functions. `database` defaults to the tests' own; a DataSource names the database it is connected to.
  */
 export async function asOwner<T>(work: (client: pg.Client) => Promise<T>, database?: DataSource | string): Promise<T> {
-  const url = new URL(inject('ownerDatabaseUrl'))
-  if (database) url.pathname = `/${typeof database === 'string' ? database : new URL(String((database.options as { url?: string }).url)).pathname.slice(1)}`
-  const client = new pg.Client({ connectionString: url.toString(), application_name: 'startproof-test-owner' })
+  const url = database
+    ? ownerDatabaseUrl(typeof database === 'string' ? database : new URL(String((database.options as { url?: string }).url)).pathname.slice(1))
+    : ownerDatabaseUrl()
+  const client = new pg.Client({ connectionString: url, application_name: 'startproof-test-owner' })
   await client.connect()
   try {
     return await work(client)
@@ -85,6 +89,14 @@ export async function resetDatabase(db: DataSource): Promise<void> {
 let counter = 0
 export const TEST_PASSWORD = 'correct horse battery'
 
+// Each hash is a full scrypt (tens of milliseconds, far more on a busy machine) and tests make many users: a password
+// is hashed once per test file and its hash reused. Sign-in still verifies it in full, as for any user.
+const hashes = new Map<string, Promise<string>>()
+const hashOf = (password: string) => {
+  if (!hashes.has(password)) hashes.set(password, hashPassword(password))
+  return hashes.get(password)!
+}
+
 export async function makeOrganization(db: DataSource, name = 'Test Commissioning Firm'): Promise<Organization> {
   return db.getRepository(Organization).save({ name })
 }
@@ -103,7 +115,7 @@ export async function makeUser(
     displayName: overrides.displayName ?? `Test ${role} ${counter}`,
     role,
     active: overrides.active ?? true,
-    passwordHash: await hashPassword(password),
+    passwordHash: await hashOf(password),
   })
   return Object.assign(user, { password })
 }

@@ -1,53 +1,65 @@
+import fs from 'node:fs'
+import path from 'node:path'
 import { inject } from 'vitest'
-import type { Page } from 'puppeteer-core'
+import puppeteer, { type Browser, type Page } from 'puppeteer-core'
 import { loadConfig } from '../../server/config'
-import { appDatabaseUrl, databaseUrl, ensureDatabase, freePort } from '../../server/db/cluster'
-import { createDataSource } from '../../server/db/data-source'
-import { migrateDatabase } from '../../server/db/migrate'
-import { DEMO_PEOPLE, loadDemoData } from '../../server/db/demo-data'
+import { freePort } from '../../server/db/cluster'
+import { DEMO_PEOPLE } from '../../server/db/demo-data'
 import { startServer, type RunningServer } from '../../server/index'
-import { launchChromium } from './browser'
+import { BUILD_RESULT } from '../setup/client'
+import { cloneDatabase, DEMO_TEMPLATE, historyTemplate, ownerDatabaseUrl, testDatabaseUrl } from './cluster'
 
 export interface RunningProduct {
   base: string
   server: RunningServer
-  browser: Awaited<ReturnType<typeof launchChromium>>
+  /** The suite's one Chromium (tests/setup/browser.ts); open pages in a browser context of their own. */
+  browser: Browser
   stop(): Promise<void>
 }
 
+/** Waits for the client build the global setup started (tests/setup/client.ts), and gives its folder. */
+export async function clientBuilt(timeoutMs = 300_000): Promise<string> {
+  const dist = inject('clientDist')
+  const result = path.join(path.dirname(dist), BUILD_RESULT)
+  const until = Date.now() + timeoutMs
+  while (!fs.existsSync(result)) {
+    if (Date.now() > until) throw new Error(`the client build did not finish within ${timeoutMs / 1000} s`)
+    await new Promise((r) => setTimeout(r, 250))
+  }
+  const outcome = fs.readFileSync(result, 'utf8')
+  if (outcome !== 'ok') throw new Error(outcome)
+  return dist
+}
+
 /**
- * The real product for a browser test: a database of its own on the test cluster with the demo data, the server
- * on a free loopback port serving the client built by the global setup, and Debian's Chromium.
+ * The real product for a browser test: a database of its own on the test cluster with the demo data (a copy of the
+ * template made once by the global setup, or with `history` of the one made on first use), the server on a free
+ * loopback port serving the client built by the global setup, and the suite's Chromium.
  */
 export async function startProduct(database: string, options: { history?: boolean } = {}): Promise<RunningProduct> {
-  const pg = inject('pg')
-  ensureDatabase(pg.bin, pg.port, database)
-  const url = databaseUrl(pg.port, database)
-  const db = createDataSource(url, { poolSize: 2 })
-  // As npm start does: migrations, clean-up and demo data as the owner; the server connects as the application role.
-  await migrateDatabase({ migrationUrl: url, appRole: inject('appRole') })
-  await db.initialize()
-  await db.query(
-    `TRUNCATE closeout_document, report, outbound_mail, run_snapshot, signature, run_attachment, finding, run_change, run_step, reading, run, template_version, checklist_template, equipment, attachment, project_member, project, app_user, organization, session, rate_limit CASCADE`,
-  )
-  await db.query(`TRUNCATE audit_event`)
-  // Without the three years of demo history unless asked: it takes a minute to load and its reports would render behind the test.
-  await loadDemoData(db, { history: options.history ?? false })
-  await db.destroy()
+  // Without the three years of demo history unless asked: it takes minutes to load and its reports would render behind the test.
+  await cloneDatabase(database, options.history ? (await historyTemplate()).name : DEMO_TEMPLATE)
+  const clientDist = await clientBuilt()
 
   const port = await freePort()
   const storage = `/tmp/startproof-e2e-files-${database}`
   const certs = `/tmp/startproof-e2e-certs-${database}`
+  // As npm start does: the server migrates as the owner (nothing to do on the copy) and connects as the application role.
   const server = await startServer(
-    loadConfig({ NODE_ENV: 'test', DATABASE_URL: appDatabaseUrl(pg.port, database), MIGRATION_DATABASE_URL: url, PORT: String(port), HOST: '127.0.0.1', CLIENT_DIST: inject('clientDist'), STORAGE_DIR: storage, CERT_DIR: certs }),
+    loadConfig({ NODE_ENV: 'test', DATABASE_URL: testDatabaseUrl(database), MIGRATION_DATABASE_URL: ownerDatabaseUrl(database), PORT: String(port), HOST: '127.0.0.1', CLIENT_DIST: clientDist, STORAGE_DIR: storage, CERT_DIR: certs }),
   )
-  const browser = await launchChromium()
+  const browser = await puppeteer.connect({ browserWSEndpoint: inject('browserWSEndpoint') })
+  // Contexts other files opened before this one connected; everything else this file opened is closed at stop.
+  const before = new Set(browser.browserContexts())
   return {
     base: `http://127.0.0.1:${port}`,
     server,
     browser,
     async stop() {
-      await browser.cleanup()
+      for (const context of browser.browserContexts()) {
+        if (context !== browser.defaultBrowserContext() && !before.has(context)) await context.close().catch(() => undefined)
+      }
+      await browser.disconnect()
       await server.close()
     },
   }

@@ -1,10 +1,12 @@
-import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import request from 'supertest'
 import { startCluster, stopCluster } from '../../server/db/cluster'
+import { testCluster } from '../helpers/cluster'
 import { createTestContext, makeOrganization, makeUser, resetDatabase, signedInAgent, type TestContext } from '../helpers/context'
 
 let ctx: TestContext
-const pg = inject('pg')
+// This worker's own cluster: stopping it leaves the other workers' tests alone.
+const pg = testCluster()
 
 beforeAll(async () => {
   ctx = await createTestContext()

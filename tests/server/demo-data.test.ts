@@ -13,22 +13,26 @@ import { Report } from '../../server/entities'
 import { buildReportView } from '../../server/reports/view-model'
 import { renderReportHtml } from '../../server/reports/render'
 import { keep, keptSnapshot, liveSnapshot } from '../../server/services/run-record'
+import { cloneDatabase, historyTemplate, testDatabaseUrl } from '../helpers/cluster'
 import { asOwner, createTestContext, resetDatabase, type TestContext } from '../helpers/context'
+
+const DATABASE = 'startproof_demo_data'
 
 let ctx: TestContext
 let summary: Awaited<ReturnType<typeof loadDemoData>>
-const loadedAt = new Date()
+let loadedAt: Date
 
 const certDir = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-demo-certs-'))
 const services = () => ctx.services
 
 beforeAll(async () => {
-  ctx = await createTestContext({ CERT_DIR: certDir })
-  await resetDatabase(ctx.db)
-  expect(await isEmpty(ctx.db)).toBe(true)
-  const started = performance.now()
-  summary = await loadDemoData(ctx.db, { now: loadedAt })
-  console.log(`demo data loaded in ${((performance.now() - started) / 1000).toFixed(1)} s (${summary.runs} runs, ${summary.reports} reports pending)`)
+  // loadDemoData with its history, into an empty migrated database (checked there), once per cluster: this file works
+  // on a copy of that template (tests/helpers/cluster.ts).
+  const template = await historyTemplate()
+  ;({ summary, loadedAt } = template)
+  if (template.loadSeconds) console.log(`demo data loaded in ${template.loadSeconds.toFixed(1)} s (${summary.runs} runs, ${summary.reports} reports pending)`)
+  await cloneDatabase(DATABASE, template.name)
+  ctx = await createTestContext({ CERT_DIR: certDir, DATABASE_URL: testDatabaseUrl(DATABASE) })
 }, 600_000)
 afterAll(async () => {
   await services().renderer.close()

@@ -2,8 +2,9 @@ import { execFileSync, spawn, type ChildProcess } from 'node:child_process'
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
-import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { freePort } from '../../server/db/cluster'
+import { ownerDatabaseUrl, testDatabaseUrl } from '../helpers/cluster'
 import { createTestContext, resetDatabase, TEST_PASSWORD, type TestContext } from '../helpers/context'
 import { readyRun, sign, SIGNATURE } from '../helpers/runs'
 
@@ -31,8 +32,8 @@ async function startServerProcess(env: Record<string, string>): Promise<{ child:
     env: {
       ...process.env,
       NODE_ENV: 'test',
-      DATABASE_URL: inject('databaseUrl'),
-      MIGRATION_DATABASE_URL: inject('ownerDatabaseUrl'),
+      DATABASE_URL: testDatabaseUrl(),
+      MIGRATION_DATABASE_URL: ownerDatabaseUrl(),
       HOST: '127.0.0.1',
       PORT: String(port),
       STORAGE_DIR: ctx.config.STORAGE_DIR,

@@ -1,9 +1,10 @@
 import { randomUUID } from 'node:crypto'
-import { afterAll, beforeAll, beforeEach, describe, expect, inject, it } from 'vitest'
+import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
 import request from 'supertest'
 import { startCluster, stopCluster } from '../../server/db/cluster'
 import { installStarterLibrary } from '../../server/services/starter-library'
 import { designPoint } from '../shared/fixtures'
+import { testCluster } from '../helpers/cluster'
 import { createTestContext, makeOrganization, makeProject, makeUser, resetDatabase, signedInAgent, type TestContext } from '../helpers/context'
 
 let ctx: TestContext
@@ -221,7 +222,7 @@ describe('readings', () => {
   it('when the database stops in the middle of a run, then the save answers 503 and the same change goes through once it is back', async () => {
     const s = await scenario()
     const run = await startRun(s)
-    const pg = inject('pg')
+    const pg = testCluster()
     const body = { changeId: randomUUID(), baseVersion: 0, entry: { value: 36, unit: 'psid' } }
     stopCluster(pg.bin, pg.dataDir, 'fast')
     try {
