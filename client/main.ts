@@ -9,7 +9,7 @@ import 'element-plus/es/components/message-box/style/css'
 import './styles/theme.css'
 import './styles/base.css'
 import App from './App.vue'
-import router from './router'
+import router, { loadAppShell } from './router'
 import { onUnauthenticated } from './api/http'
 import { useSessionStore } from './stores/session'
 
@@ -24,4 +24,9 @@ onUnauthenticated(() => {
   const current = router.currentRoute.value
   if (!current.meta.public) void router.replace({ name: 'sign-in', query: { redirect: current.fullPath } })
 })
-router.isReady().then(() => app.mount('#app'))
+// The loading screen in index.html stays until the first page can be drawn whole: its view (the router waits for it)
+// and, for a signed-in page, the app's frame, which is a chunk of its own and already on its way (router/index.ts).
+router.isReady().then(async () => {
+  if (!router.currentRoute.value.meta.public) await loadAppShell().catch(() => undefined)
+  app.mount('#app')
+})

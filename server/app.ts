@@ -10,6 +10,7 @@ import type { Config } from './config'
 import { createPassport } from './auth/passport'
 import { errorHandler, notFoundHandler } from './errors/error-handler'
 import { requireAuth } from './middleware/auth'
+import { serveClient } from './middleware/client-assets'
 import { PostgresRateLimitStore } from './middleware/pg-rate-limit-store'
 import { equipmentRoutes } from './routes/equipment.routes'
 import { projectRoutes } from './routes/project.routes'
@@ -108,13 +109,7 @@ export function createApp({ config, db, services = createAppServices(config, db)
   api.use(errorHandler)
   app.use('/api', api)
 
-  const clientDir = path.resolve(config.CLIENT_DIST)
-  const indexHtml = path.join(clientDir, 'index.html')
-  if (fs.existsSync(indexHtml)) {
-    app.use(express.static(clientDir, { index: false, maxAge: '1h', immutable: false }))
-    // History-mode routes of the single-page client all load index.html.
-    app.get(/^\/(?!api\/).*/, (_req, res) => res.sendFile(indexHtml, { headers: { 'Cache-Control': 'no-cache' } }))
-  }
+  serveClient(app, config.CLIENT_DIST)
   app.use(errorHandler)
   return app
 }

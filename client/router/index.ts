@@ -1,4 +1,4 @@
-import { createRouter, createWebHistory, type RouteLocationRaw, type RouteRecordRaw } from 'vue-router'
+import { createRouter, createWebHistory, type RouteLocationNormalized, type RouteLocationRaw, type RouteRecordRaw } from 'vue-router'
 import type { Role } from '@shared/types/roles'
 import { useSessionStore } from '@/stores/session'
 
@@ -35,6 +35,9 @@ declare module 'vue-router' {
 }
 
 type NamedRoute = RouteRecordRaw & { name: RouteName }
+
+/** The signed-in frame (navigation, the user menu and its dropdown), a chunk of its own: sign-in and Verify do without it. */
+export const loadAppShell = () => import('@/components/AppShell.vue')
 
 const routes: NamedRoute[] = [
   { path: '/sign-in', name: 'sign-in', component: () => import('@/views/SignInView.vue'), meta: { public: true, title: 'Sign in' } },
@@ -80,8 +83,26 @@ export function to(name: RouteName, params?: Record<string, string>): RouteLocat
 
 const router = createRouter({ history: createWebHistory(), routes })
 
+/**
+ * Starts fetching the chunks of a signed-in page (its view and the app's frame) while the session is still being asked
+ * for: the router would otherwise fetch the view only after GET /api/session answers, one more round trip on a slow
+ * link. The browser fetches each module once, so the router's own import later costs nothing.
+ */
+function preloadSignedInPage(target: RouteLocationNormalized) {
+  void loadAppShell().catch(() => undefined)
+  for (const record of target.matched) {
+    for (const component of Object.values(record.components ?? {})) {
+      // vue-router's own test for a lazy route component: a function that is not itself a component.
+      const lazy = typeof component === 'function' && !('displayName' in component || 'props' in component || '__vccOpts' in component)
+      if (lazy) void (component as () => Promise<unknown>)().catch(() => undefined)
+    }
+  }
+}
+
 router.beforeEach(async (target) => {
   const session = useSessionStore()
+  // Someone signed in here before (or still is): most likely the page opens, so its chunks need not wait for the session.
+  if (!target.meta.public && (session.user ?? session.deviceUser)) preloadSignedInPage(target)
   try {
     await session.ensureLoaded()
   } catch (err) {

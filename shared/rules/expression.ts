@@ -20,7 +20,7 @@ import {
   saturationTempF,
   type SaturationSide,
 } from '../engineering/refrigerant'
-import { math } from '../units/math'
+import { math } from './math'
 
 type ExpressionFunction = (...args: never[]) => number
 

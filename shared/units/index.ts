@@ -1,4 +1,3 @@
-export { math } from './math'
 export {
   QUANTITY_KINDS,
   UNIT_SYSTEMS,

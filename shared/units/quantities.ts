@@ -1,5 +1,21 @@
 import { EngineeringError, requireFinite, requirePositive } from '../engineering/errors'
-import { math } from './math'
+import {
+  BAR_PA,
+  BTU_IT_J,
+  CELSIUS_ZERO_K,
+  FAHRENHEIT_ZERO_R,
+  FOOT_OF_WATER_PA,
+  HORSEPOWER_W,
+  INCH_M,
+  INCH_OF_MERCURY_PA,
+  INCH_OF_WATER_PA,
+  MIL_M,
+  PSI_PA,
+  RANKINE_K,
+  REVOLUTION_RAD,
+  TON_OF_REFRIGERATION_W,
+  US_GALLON_M3,
+} from './factors'
 
 export const QUANTITY_KINDS = [
   'temperature',
@@ -35,8 +51,13 @@ export interface UnitSpec {
   label: string
   /** Decimal places shown for this unit in messages. */
   decimals: number
-  /** The mathjs unit that does the conversion; null for a kind with a single unit. */
-  mathUnit: string | null
+  /**
+   * The unit in its kind's coherent SI unit (K, Pa, m³/s, W, rad/s, m, a plain ratio): SI = (value + offset) × factor.
+   * The factors are in ./factors.ts with their sources.
+   */
+  factor: number
+  /** Added before scaling, for the temperature scales whose zero is not absolute zero (°F, °C). */
+  offset?: number
   /** -1 for a unit that counts downwards from its zero (inches of mercury vacuum). */
   sign?: -1
   /** The reciprocal of the kind's canonical unit (COP = 1 / (kW/kW)): a maximum in kW/ton is a minimum in it. */
@@ -52,138 +73,149 @@ interface KindSpec {
   units: UnitSpec[]
 }
 
-function u(kind: QuantityKind, id: string, label: string, mathUnit: string | null, decimals: number, sign?: -1): UnitSpec {
-  return sign ? { id, kind, label, mathUnit, decimals, sign } : { id, kind, label, mathUnit, decimals }
+function u(kind: QuantityKind, id: string, label: string, factor: number, decimals: number, extra: { offset?: number; sign?: -1 } = {}): UnitSpec {
+  return { id, kind, label, factor, decimals, ...extra }
 }
 
-// Gauge, absolute and differential pressure share mathjs's psi and kPa: what separates them is the
-// kind (the reference point), which mathjs cannot express. Temperature differences use the offset-free
-// Rankine and kelvin so a 1 °F difference converts to 5/9 K, not to −17.2 °C.
+const KILO = 1000
+const MILLI = 1e-3
+const MINUTE_S = 60
+const HOUR_S = 3600
+
+// Gauge, absolute and differential pressure share psi and kPa: what separates them is the kind (the reference
+// point), which a unit cannot express. Temperature differences are scale only (°F difference = °R = 5/9 K), so a
+// 1 °F difference converts to 5/9 K, not to −17.2 °C.
 const KINDS: Record<QuantityKind, KindSpec> = {
   temperature: {
     label: 'temperature', ip: 'degF', si: 'degC', canonical: 'K',
-    units: [u('temperature', 'degF', '°F', 'degF', 1), u('temperature', 'degC', '°C', 'degC', 1), u('temperature', 'K', 'K', 'K', 2)],
+    units: [
+      u('temperature', 'degF', '°F', RANKINE_K, 1, { offset: FAHRENHEIT_ZERO_R }),
+      u('temperature', 'degC', '°C', 1, 1, { offset: CELSIUS_ZERO_K }),
+      u('temperature', 'K', 'K', 1, 2),
+    ],
   },
   temperature_difference: {
     label: 'temperature difference', ip: 'deltaF', si: 'K', canonical: 'K',
     units: [
-      u('temperature_difference', 'deltaF', '°F', 'degR', 1),
-      u('temperature_difference', 'deltaC', '°C', 'K', 2),
-      u('temperature_difference', 'K', 'K', 'K', 2),
+      u('temperature_difference', 'deltaF', '°F', RANKINE_K, 1),
+      u('temperature_difference', 'deltaC', '°C', 1, 2),
+      u('temperature_difference', 'K', 'K', 1, 2),
     ],
   },
   pressure_gauge: {
     label: 'gauge pressure', ip: 'psig', si: 'kPag', canonical: 'Pag',
     units: [
-      u('pressure_gauge', 'psig', 'psig', 'psi', 1),
-      u('pressure_gauge', 'kPag', 'kPa (gauge)', 'kPa', 0),
-      u('pressure_gauge', 'barg', 'bar (gauge)', 'bar', 2),
-      u('pressure_gauge', 'Pag', 'Pa (gauge)', 'Pa', 0),
-      u('pressure_gauge', 'inHgVac', 'inHg vacuum', 'inHg', 1, -1),
+      u('pressure_gauge', 'psig', 'psig', PSI_PA, 1),
+      u('pressure_gauge', 'kPag', 'kPa (gauge)', KILO, 0),
+      u('pressure_gauge', 'barg', 'bar (gauge)', BAR_PA, 2),
+      u('pressure_gauge', 'Pag', 'Pa (gauge)', 1, 0),
+      u('pressure_gauge', 'inHgVac', 'inHg vacuum', INCH_OF_MERCURY_PA, 1, { sign: -1 }),
     ],
   },
   pressure_absolute: {
     label: 'absolute pressure', ip: 'psia', si: 'kPaa', canonical: 'Paa',
     units: [
-      u('pressure_absolute', 'psia', 'psia', 'psi', 2),
-      u('pressure_absolute', 'kPaa', 'kPa (abs)', 'kPa', 1),
-      u('pressure_absolute', 'bara', 'bar (abs)', 'bar', 3),
-      u('pressure_absolute', 'Paa', 'Pa (abs)', 'Pa', 0),
-      u('pressure_absolute', 'inHgAbs', 'inHg (abs)', 'inHg', 2),
+      u('pressure_absolute', 'psia', 'psia', PSI_PA, 2),
+      u('pressure_absolute', 'kPaa', 'kPa (abs)', KILO, 1),
+      u('pressure_absolute', 'bara', 'bar (abs)', BAR_PA, 3),
+      u('pressure_absolute', 'Paa', 'Pa (abs)', 1, 0),
+      u('pressure_absolute', 'inHgAbs', 'inHg (abs)', INCH_OF_MERCURY_PA, 2),
     ],
   },
   pressure_differential: {
     label: 'differential pressure', ip: 'psid', si: 'kPad', canonical: 'Pad',
     units: [
-      u('pressure_differential', 'psid', 'psid', 'psi', 1),
-      u('pressure_differential', 'kPad', 'kPa (diff)', 'kPa', 0),
-      u('pressure_differential', 'Pad', 'Pa (diff)', 'Pa', 0),
-      u('pressure_differential', 'ftH2O', 'ft of water', 'ftH2O', 1),
-      u('pressure_differential', 'inH2O', 'in of water', 'inH2O', 1),
+      u('pressure_differential', 'psid', 'psid', PSI_PA, 1),
+      u('pressure_differential', 'kPad', 'kPa (diff)', KILO, 0),
+      u('pressure_differential', 'Pad', 'Pa (diff)', 1, 0),
+      u('pressure_differential', 'ftH2O', 'ft of water', FOOT_OF_WATER_PA, 1),
+      u('pressure_differential', 'inH2O', 'in of water', INCH_OF_WATER_PA, 1),
     ],
   },
   volumetric_flow: {
     label: 'flow', ip: 'gpm', si: 'Lps', canonical: 'm3ps',
     units: [
-      u('volumetric_flow', 'gpm', 'gpm', 'gallon/minute', 0),
-      u('volumetric_flow', 'Lps', 'L/s', 'L/s', 1),
-      u('volumetric_flow', 'm3ph', 'm³/h', 'm^3/h', 1),
-      u('volumetric_flow', 'm3ps', 'm³/s', 'm^3/s', 4),
+      u('volumetric_flow', 'gpm', 'gpm', US_GALLON_M3 / MINUTE_S, 0),
+      u('volumetric_flow', 'Lps', 'L/s', MILLI, 1),
+      u('volumetric_flow', 'm3ph', 'm³/h', 1 / HOUR_S, 1),
+      u('volumetric_flow', 'm3ps', 'm³/s', 1, 4),
     ],
   },
   power: {
     label: 'power', ip: 'kW', si: 'kW', canonical: 'W',
-    units: [u('power', 'kW', 'kW', 'kW', 1), u('power', 'W', 'W', 'W', 0), u('power', 'hp', 'hp', 'hp', 1)],
+    units: [u('power', 'kW', 'kW', KILO, 1), u('power', 'W', 'W', 1, 0), u('power', 'hp', 'hp', HORSEPOWER_W, 1)],
   },
-  current: { label: 'current', ip: 'A', si: 'A', canonical: 'A', units: [u('current', 'A', 'A', 'A', 1)] },
+  current: { label: 'current', ip: 'A', si: 'A', canonical: 'A', units: [u('current', 'A', 'A', 1, 1)] },
   voltage: {
     label: 'voltage', ip: 'V', si: 'V', canonical: 'V',
-    units: [u('voltage', 'V', 'V', 'V', 0), u('voltage', 'kV', 'kV', 'kV', 2)],
+    units: [u('voltage', 'V', 'V', 1, 0), u('voltage', 'kV', 'kV', KILO, 2)],
   },
-  frequency: { label: 'frequency', ip: 'Hz', si: 'Hz', canonical: 'Hz', units: [u('frequency', 'Hz', 'Hz', 'Hz', 1)] },
+  frequency: { label: 'frequency', ip: 'Hz', si: 'Hz', canonical: 'Hz', units: [u('frequency', 'Hz', 'Hz', 1, 1)] },
   time: {
     label: 'time', ip: 's', si: 's', canonical: 's',
-    units: [u('time', 's', 's', 's', 1), u('time', 'min', 'min', 'minute', 1), u('time', 'h', 'h', 'hour', 2)],
+    units: [u('time', 's', 's', 1, 1), u('time', 'min', 'min', MINUTE_S, 1), u('time', 'h', 'h', HOUR_S, 2)],
   },
   // Percent is stored as percent (75 for 75 %) so a reading reads the same in every system.
-  percent: { label: 'percent', ip: '%', si: '%', canonical: '%', units: [u('percent', '%', '%', null, 1)] },
+  percent: { label: 'percent', ip: '%', si: '%', canonical: '%', units: [u('percent', '%', '%', 1, 1)] },
   cooling_capacity: {
     label: 'cooling capacity', ip: 'TR', si: 'kW', canonical: 'W',
     units: [
-      u('cooling_capacity', 'TR', 'tons', 'TR', 1),
-      u('cooling_capacity', 'kW', 'kW', 'kW', 1),
-      u('cooling_capacity', 'W', 'W', 'W', 0),
-      u('cooling_capacity', 'BtuPerH', 'Btu/h', 'BTU/h', 0),
+      u('cooling_capacity', 'TR', 'tons', TON_OF_REFRIGERATION_W, 1),
+      u('cooling_capacity', 'kW', 'kW', KILO, 1),
+      u('cooling_capacity', 'W', 'W', 1, 0),
+      u('cooling_capacity', 'BtuPerH', 'Btu/h', BTU_IT_J / HOUR_S, 0),
     ],
   },
   specific_power: {
     // SI readers state a chiller's efficiency as COP, cooling out over power in (kW/kW), the reciprocal of specific power.
     label: 'specific power', ip: 'kWPerTon', si: 'COP', canonical: 'kWPerKW',
     units: [
-      u('specific_power', 'kWPerTon', 'kW/ton', 'kW/TR', 3),
-      u('specific_power', 'kWPerKW', 'kW/kW input per kW cooling', 'kW/kW', 3),
-      { id: 'COP', kind: 'specific_power', label: 'COP', mathUnit: null, decimals: 2, reciprocal: true },
+      u('specific_power', 'kWPerTon', 'kW/ton', KILO / TON_OF_REFRIGERATION_W, 3),
+      u('specific_power', 'kWPerKW', 'kW/kW input per kW cooling', 1, 3),
+      // Never scaled: convert() goes through kW/kW and takes the reciprocal.
+      { id: 'COP', kind: 'specific_power', label: 'COP', factor: 1, decimals: 2, reciprocal: true },
     ],
   },
   efficiency: {
+    // EER is Btu of cooling per watt-hour of input: 1 Btu/(W·h) = 1055.055 852 62 J / 3600 J = 0.293 071 W/W.
     label: 'efficiency', ip: 'COP', si: 'COP', canonical: 'COP',
-    units: [u('efficiency', 'COP', 'COP', 'W/W', 2), u('efficiency', 'EER', 'Btu/(W·h)', 'BTU/(W h)', 2)],
+    units: [u('efficiency', 'COP', 'COP', 1, 2), u('efficiency', 'EER', 'Btu/(W·h)', BTU_IT_J / HOUR_S, 2)],
   },
-  // Shaft speed: 1 r/min = 2π/60 rad/s = 0.104 719 8 rad/s (NIST SP 811 (2008) App. B.8); mathjs's cycle is 2π rad.
+  // Shaft speed: 1 r/min = 2π/60 rad/s = 0.104 719 8 rad/s (NIST SP 811 (2008) App. B.8).
   rotational_speed: {
     label: 'rotational speed', ip: 'rpm', si: 'rpm', canonical: 'radps',
     units: [
-      u('rotational_speed', 'rpm', 'rpm', 'cycle/minute', 0),
-      u('rotational_speed', 'rps', 'r/s', 'cycle/s', 2),
-      u('rotational_speed', 'radps', 'rad/s', 'rad/s', 2),
+      u('rotational_speed', 'rpm', 'rpm', REVOLUTION_RAD / MINUTE_S, 0),
+      u('rotational_speed', 'rps', 'r/s', REVOLUTION_RAD, 2),
+      u('rotational_speed', 'radps', 'rad/s', 1, 2),
     ],
   },
   // Vibration velocity (overall, RMS or peak as the field says): 1 in = 0.0254 m exactly (NIST SP 811 (2008) App. B.8).
   vibration_velocity: {
     label: 'vibration velocity', ip: 'inps', si: 'mmps', canonical: 'mps',
     units: [
-      u('vibration_velocity', 'inps', 'in/s', 'in/s', 3),
-      u('vibration_velocity', 'mmps', 'mm/s', 'mm/s', 2),
-      u('vibration_velocity', 'mps', 'm/s', 'm/s', 5),
+      u('vibration_velocity', 'inps', 'in/s', INCH_M, 3),
+      u('vibration_velocity', 'mmps', 'mm/s', MILLI, 2),
+      u('vibration_velocity', 'mps', 'm/s', 1, 5),
     ],
   },
   // Shaft alignment offset, face gap and soft foot: 1 mil = 0.001 in = 0.0254 mm (NIST SP 811 (2008) App. B.8).
   alignment_offset: {
     label: 'alignment offset', ip: 'mil', si: 'mm', canonical: 'm',
     units: [
-      u('alignment_offset', 'mil', 'mils', 'mil', 1),
-      u('alignment_offset', 'mm', 'mm', 'mm', 3),
-      u('alignment_offset', 'in', 'in', 'in', 4),
-      u('alignment_offset', 'm', 'm', 'm', 6),
+      u('alignment_offset', 'mil', 'mils', MIL_M, 1),
+      u('alignment_offset', 'mm', 'mm', MILLI, 3),
+      u('alignment_offset', 'in', 'in', INCH_M, 4),
+      u('alignment_offset', 'm', 'm', 1, 6),
     ],
   },
-  // Angular misalignment as a slope: 1 mil/in = 1 mm/m; 1 mm/100 mm = 10 mm/m (ratios of lengths, NIST SP 811).
+  // Angular misalignment as a slope, a ratio of lengths: 1 mil/in = 1 mm/m; 1 mm/100 mm = 10 mm/m (NIST SP 811).
   alignment_angularity: {
     label: 'angular misalignment', ip: 'milPerIn', si: 'mmPer100mm', canonical: 'mmPerM',
     units: [
-      u('alignment_angularity', 'milPerIn', 'mils/in', 'mil/in', 2),
-      u('alignment_angularity', 'mmPer100mm', 'mm/100 mm', 'mmPer100mm', 3),
-      u('alignment_angularity', 'mmPerM', 'mm/m', 'mm/m', 2),
+      u('alignment_angularity', 'milPerIn', 'mils/in', MIL_M / INCH_M, 2),
+      u('alignment_angularity', 'mmPer100mm', 'mm/100 mm', 1 / 100, 3),
+      u('alignment_angularity', 'mmPerM', 'mm/m', MILLI, 2),
     ],
   },
 }
@@ -243,7 +275,7 @@ export function kindLabel(kind: QuantityKind): string {
   return kindSpec(kind).label
 }
 
-/** `value` in `from` converted to `to`, both units of `kind`; conversions go through mathjs units. */
+/** `value` in `from` converted to `to`, both units of `kind`, through the kind's coherent SI unit (./factors.ts). */
 export function convert(value: number, from: string, to: string, kind: QuantityKind): number {
   requireFinite(value, 'value')
   const source = unitSpec(kind, from)
@@ -256,8 +288,8 @@ export function convert(value: number, from: string, to: string, kind: QuantityK
   }
   const signed = value * (source.sign ?? 1)
   let result: number
-  if (source.mathUnit === target.mathUnit || source.mathUnit === null || target.mathUnit === null) result = signed
-  else result = math.unit(signed, source.mathUnit).toNumber(target.mathUnit)
+  if (source.factor === target.factor && (source.offset ?? 0) === (target.offset ?? 0)) result = signed
+  else result = ((signed + (source.offset ?? 0)) * source.factor) / target.factor - (target.offset ?? 0)
   return result * (target.sign ?? 1)
 }
 

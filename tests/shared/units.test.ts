@@ -142,8 +142,8 @@ describe('display and formatting', () => {
   })
 })
 
-describe('the private mathjs instance', () => {
-  it('when the ton of refrigeration and mm/100 mm are added, then the global mathjs does not know them', () => {
+describe('units of our own table', () => {
+  it('when the ton of refrigeration and mm/100 mm are converted by the table, then the global mathjs still does not know them', () => {
     expect(() => globalUnit(1, 'TR')).toThrow()
     expect(() => globalUnit(1, 'mmPer100mm')).toThrow()
   })
