@@ -2,8 +2,6 @@ import express, { type Express } from 'express'
 import session from 'express-session'
 import connectPgSimple from 'connect-pg-simple'
 import helmet from 'helmet'
-import fs from 'node:fs'
-import path from 'node:path'
 import type { Pool } from 'pg'
 import type { DataSource } from 'typeorm'
 import type { Config } from './config'
@@ -24,6 +22,7 @@ import { SESSION_COOKIE, sessionRoutes } from './routes/session.routes'
 import { userRoutes } from './routes/user.routes'
 import { createAppServices, type AppServices } from './services'
 import { throttleTouch } from './middleware/session-touch'
+import { compressJson } from './middleware/compress-json'
 
 export interface AppDeps {
   config: Config
@@ -107,7 +106,7 @@ export function createApp({ config, db, services = createAppServices(config, db)
   api.use('/templates', requireAuth, templateRoutes(templates))
   api.use(notFoundHandler)
   api.use(errorHandler)
-  app.use('/api', api)
+  app.use('/api', compressJson(), api)
 
   serveClient(app, config.CLIENT_DIST)
   app.use(errorHandler)

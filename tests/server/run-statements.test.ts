@@ -1,5 +1,8 @@
 import { randomUUID } from 'node:crypto'
 import pg from 'pg'
+import http from 'node:http'
+import { brotliDecompressSync } from 'node:zlib'
+import request from 'supertest'
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
 import type { ChecklistDefinition } from '@shared/schemas/checklist'
 import { dependentFields } from '@shared/rules'
@@ -67,7 +70,7 @@ async function startedRun() {
   const template = (await adminAgent.get('/api/templates')).body.templates.find((t: { key: string }) => t.key === 'centrifugal-chiller-startup')
   const techAgent = await signedInAgent(ctx.app, tech)
   const run = (await techAgent.post(`/api/equipment/${equipment.id}/runs`).send({ templateId: template.id }).expect(201)).body.run
-  return { techAgent, run, definition: run.definition as ChecklistDefinition }
+  return { tech, techAgent, run, definition: run.definition as ChecklistDefinition }
 }
 
 const save = (agent: Awaited<ReturnType<typeof startedRun>>['techAgent'], runId: string, fieldId: string, entry: unknown, baseVersion: number, changeId = randomUUID()) =>
@@ -242,5 +245,41 @@ describe('the run list', () => {
       expect(text, text).not.toMatch(/Seq Scan on audit_event/)
     })
     expect(plans.length).toBeGreaterThan(0)
+  })
+})
+
+describe('compressed answers', () => {
+  it('when a browser offers brotli, then the run page comes compressed and decodes to the same JSON; a photo download is sent as it is', async () => {
+    const { tech, techAgent, run } = await startedRun()
+    const plain = await techAgent.get(`/api/runs/${run.id}`).set('Accept-Encoding', 'identity').expect(200)
+    expect(plain.headers['content-encoding']).toBeUndefined()
+    // Node's own client, which (unlike supertest) hands over the bytes as sent.
+    const signIn = await request(ctx.app).post('/api/session').send({ email: tech.email, password: tech.password }).expect(200)
+    const cookie = String((signIn.headers['set-cookie'] as unknown as string[])[0]).split(';')[0]
+    const server = ctx.app.listen(0, '127.0.0.1')
+    await new Promise((r) => server.once('listening', r))
+    const port = (server.address() as { port: number }).port
+    const raw = await new Promise<{ headers: http.IncomingHttpHeaders; body: Buffer }>((resolve, reject) => {
+      http
+        .get({ host: '127.0.0.1', port, path: `/api/runs/${run.id}`, headers: { 'Accept-Encoding': 'gzip, deflate, br', Cookie: cookie } }, (res) => {
+          const chunks: Buffer[] = []
+          res.on('data', (c: Buffer) => chunks.push(c))
+          res.on('end', () => resolve({ headers: res.headers, body: Buffer.concat(chunks) }))
+        })
+        .on('error', reject)
+    }).finally(() => server.close())
+    expect(raw.headers['content-encoding']).toBe('br')
+    expect(raw.headers.vary).toMatch(/Accept-Encoding/i)
+    const body = raw.body
+    const decoded = JSON.parse(brotliDecompressSync(body).toString('utf8'))
+    expect(decoded).toEqual(plain.body)
+    // A run page is mostly repeated keys and words: brotli makes it several times smaller.
+    expect(body.length * 4).toBeLessThan(Buffer.byteLength(JSON.stringify(plain.body)))
+
+    const PNG = Buffer.from('iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAYAAAAfFcSJAAAADUlEQVR42mP8z8DwHwAFBQIAX8jx0gAAAABJRU5ErkJggg==', 'base64')
+    const up = await techAgent.post(`/api/runs/${run.id}/attachments`).field('stepId', 'training-record').attach('file', PNG, { filename: 'sheet.png', contentType: 'image/png' }).expect(201)
+    const file = await techAgent.get(up.body.attachment.url).set('Accept-Encoding', 'br').buffer(true).expect(200)
+    expect(file.headers['content-encoding']).toBeUndefined()
+    expect(Buffer.compare(file.body, PNG)).toBe(0)
   })
 })
