@@ -94,6 +94,9 @@ function filesOf(manifest: Manifest, keys: string[]) {
     for (const c of chunk.css ?? []) css.add(c)
     if (chunk.file.endsWith('.css')) css.add(chunk.file)
   }
+  // With one stylesheet for the whole client (build.cssCodeSplit false) the manifest names it on its own, and
+  // index.html links it for every page.
+  if (manifest['style.css']) css.add(manifest['style.css'].file)
   return { js: [...js], css: [...css] }
 }
 

@@ -6,6 +6,7 @@ import zlib from 'node:zlib'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { chooseEncoding } from '../../server/middleware/client-assets'
 import { createTestContext, type TestContext } from '../helpers/context'
+import { clientBuilt } from '../helpers/product'
 
 // The client built once for the server project (tests/setup/client.ts), served by the real app. Plain node:http and no
 // supertest: superagent would undo the Content-Encoding before the test could compare the bytes on the wire.
@@ -34,11 +35,13 @@ const entry = () => Object.values(manifest()).find((c) => c.isEntry)!
 const onDisk = (file: string) => fs.readFileSync(path.join(dist, file))
 
 beforeAll(async () => {
+  // The client is built in the background by the global setup; this file may run before it has finished.
+  await clientBuilt()
   ctx = await createTestContext({ CLIENT_DIST: dist })
   server = ctx.app.listen(0, '127.0.0.1')
   await new Promise<void>((resolve) => server.once('listening', () => resolve()))
   base = `http://127.0.0.1:${(server.address() as AddressInfo).port}`
-})
+}, 300_000)
 afterAll(async () => {
   await new Promise<void>((resolve) => server.close(() => resolve()))
   await ctx.close()
@@ -89,7 +92,9 @@ describe('hashed assets: precompressed, cached for a year', () => {
   })
 
   it('when a stylesheet is asked for with brotli, then it is text/css and decompresses to the file', async () => {
-    const css = Object.values(manifest()).flatMap((c) => c.css ?? []).find((f) => fs.existsSync(path.join(dist, `${f}.br`)))!
+    const sheets = [...Object.values(manifest()).flatMap((c) => c.css ?? []), ...Object.values(manifest()).map((c) => c.file).filter((f) => f.endsWith('.css'))]
+    const css = sheets.find((f) => fs.existsSync(path.join(dist, `${f}.br`)))!
+    expect(css).toBeTruthy()
     const res = await get(`/${css}`, { 'Accept-Encoding': 'br, gzip' })
     expect(res.headers['content-type']).toMatch(/^text\/css/)
     expect(res.headers['content-encoding']).toBe('br')
