@@ -102,14 +102,14 @@ export async function readingRows(tx: EntityManager, runId: string): Promise<Rea
 }
 
 /**
- * Re-judges the fields in `only` (the dependents of the changed field) from the rows in memory, updates those rows,
- * and returns the ones whose evaluation changed.
+ * Re-judges the fields in `only` (the dependents of the changed field; every field when absent) from the rows in
+ * memory, updates those rows, and returns the ones whose evaluation changed.
  */
 export function rejudged(
   ctx: { definition: ChecklistDefinition; equipment: Pick<Equipment, 'designPoint'>; project: Pick<Project, 'unitSystem'> & Partial<Pick<Project, 'siteElevationM' | 'barometricKpa'>> },
   readings: Reading[],
   naSteps: ReadonlySet<string>,
-  only: ReadonlySet<string>,
+  only?: ReadonlySet<string>,
 ): Reading[] {
   const evaluations = evaluateAll(ctx, readings, naSteps, only)
   const changed: Reading[] = []

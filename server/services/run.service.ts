@@ -13,7 +13,6 @@ import {
   type ReadingSaved,
   type RunProgress,
   type RunDetail,
-  type RunReading,
   type RunState,
   type RunStepState,
   type RunSummary,
@@ -133,22 +132,21 @@ export class RunService {
       const definition = version.definition as unknown as ChecklistDefinition
       const blank = [...fieldPlaces(definition).keys()].map((fieldId) => ({ runId: run.id, fieldId, entry: null } as Reading))
       const evaluations = evaluateAll({ definition, equipment, project }, blank, new Set())
-      await tx.getRepository(Reading).save(
-        blank.map((r) =>
-          tx.getRepository(Reading).create({
-            runId: r.runId,
-            fieldId: r.fieldId,
-            entry: null,
-            evaluation: evaluations[r.fieldId],
-            verdict: evaluations[r.fieldId].verdict,
-            canonicalValue: evaluations[r.fieldId].canonical?.value ?? null,
-            version: 0,
-          }),
-        ),
+      const rows = blank.map((r) =>
+        tx.getRepository(Reading).create({
+          runId: r.runId,
+          fieldId: r.fieldId,
+          entry: null,
+          evaluation: evaluations[r.fieldId],
+          verdict: evaluations[r.fieldId].verdict,
+          canonicalValue: evaluations[r.fieldId].canonical?.value ?? null,
+          version: 0,
+        }),
       )
+      await tx.getRepository(Reading).save(rows)
       const steps = definition.sections.flatMap((s) => s.steps.map((st) => ({ runId: run.id, stepId: st.id })))
       await tx.getRepository(RunStep).insert(steps)
-      await storeProgress(tx, run.id, countRows(definition, blank.map((r) => ({ ...r, verdict: evaluations[r.fieldId].verdict, canonicalValue: evaluations[r.fieldId].canonical?.value ?? null, disposition: null, notApplicable: false, naReason: null })), []).totals)
+      await storeProgress(tx, run.id, countRows(definition, rows, []).totals)
       await recordAudit(tx, {
         actorId: user.id,
         action: 'run.start',
@@ -268,11 +266,6 @@ export class RunService {
     }
   }
 
-  private async readingViews(readings: Reading[]): Promise<Record<string, RunReading>> {
-    const names = await this.names(readings.map((r) => r.updatedBy))
-    return Object.fromEntries(readings.map((r) => [r.fieldId, readingView(r, names)]))
-  }
-
   private async stepView(step: RunStep): Promise<RunStepState> {
     return stepView(step, await this.names([step.updatedBy]))
   }
@@ -382,11 +375,6 @@ export class RunService {
       return this.liveDetail(await this.contextOf(run))
     }
     return runDetailFromSnapshot(kept.snapshot, { state: run.state, version: run.version, updatedAt: run.updatedAt.toISOString(), signatures: await this.signatures(run.id) })
-  }
-
-  private async detailOf(ctx: RunContext): Promise<RunDetail> {
-    if (!EDITABLE_RUN_STATES.includes(ctx.run.state)) return this.signedDetail(ctx.run)
-    return this.liveDetail(ctx)
   }
 
   /** The run from the live tables: what the runner shows while it is being filled in. */
@@ -549,19 +537,6 @@ export class RunService {
     return found.definition
   }
 
-  /** Re-evaluates every field and stores the verdicts that changed (computed fields follow their inputs). */
-  private async rejudge(tx: EntityManager, ctx: RunContext, readings: Reading[], naSteps: Set<string>) {
-    const evaluations = evaluateAll(ctx, readings, naSteps)
-    for (const r of readings) {
-      const evaluation = evaluations[r.fieldId]
-      if (!evaluation || isDeepStrictEqual(evaluation, r.evaluation)) continue
-      r.evaluation = evaluation
-      r.verdict = evaluation.verdict
-      r.canonicalValue = evaluation.canonical?.value ?? null
-      await tx.getRepository(Reading).update({ runId: r.runId, fieldId: r.fieldId }, { evaluation, verdict: evaluation.verdict, canonicalValue: r.canonicalValue })
-    }
-  }
-
   async setStep(user: SessionUser, runId: string, stepId: string, input: StepChangeInput): Promise<RunStepState> {
     await this.db.transaction(async (tx) => {
       const ctx = await this.context(user, runId, tx, true)
@@ -584,24 +559,25 @@ export class RunService {
         throw new AppError('step_conflict', `${who} changed this step's note or applicability meanwhile; keep theirs or save yours again`, 409, { [stepId]: `Changed by ${who}` }, { current: view })
       }
       const now = this.clock()
+      let audit: Parameters<typeof recordChange>[2] = null
+      let progress: RunProgress | null = null
+      let rejudgedRows: Reading[] = []
       if (!unchanged) {
         const before = { note: step.note, disposition: dispositionOf(step) }
         Object.assign(step, next, { version: step.version + 1, updatedBy: user.id, updatedAt: now })
         await repo.save(step)
-        if ((before.disposition !== null) !== step.notApplicable) {
+        if (!isDeepStrictEqual(before.disposition, next.disposition)) {
           const readings = await tx.getRepository(Reading).findBy({ runId })
           const naStepRows = await repo.findBy({ runId, notApplicable: true })
-          await this.rejudge(tx, ctx, readings, new Set(naStepRows.map((s) => s.stepId)))
-          await storeProgress(tx, runId, countRows(ctx.definition, readings, naStepRows).totals)
-        } else if (!isDeepStrictEqual(before.disposition, next.disposition)) {
-          // Another kind of set-aside (deferred, done by others) counts differently, with the same verdicts.
-          const readings = await tx.getRepository(Reading).find({ where: { runId }, select: { fieldId: true, verdict: true, canonicalValue: true, disposition: true, notApplicable: true, naReason: true } })
-          await storeProgress(tx, runId, countRows(ctx.definition, readings, await repo.findBy({ runId, notApplicable: true })).totals)
+          // Setting a step aside (or back) empties (or restores) its fields' entries: verdicts follow. Another kind of
+          // set-aside (deferred, done by others) keeps the verdicts and only counts differently.
+          if ((before.disposition !== null) !== step.notApplicable) rejudgedRows = rejudged(ctx, readings, new Set(naStepRows.map((st) => st.stepId)))
+          progress = countRows(ctx.definition, readings, naStepRows).totals
         }
-        await recordAudit(tx, { actorId: user.id, action: 'step.set', entityType: 'run_step', entityId: `${runId}/${stepId}`, projectId: ctx.run.projectId, before, after: { note: next.note, disposition: next.disposition }, occurredAt: now })
-        await tx.query(`UPDATE run SET updated_at = $2 WHERE id = $1`, [runId, now])
+        audit = { actorId: user.id, action: 'step.set', entityType: 'run_step', entityId: `${runId}/${stepId}`, projectId: ctx.run.projectId, before, after: { note: next.note, disposition: next.disposition }, occurredAt: now }
       }
-      await tx.getRepository(RunChange).insert({ id: input.changeId, runId, target: 'step', targetId: stepId, userId: user.id, appliedAt: now })
+      // The changed verdicts, the change id, the audit event, the run's time and its counts in one statement, as for a reading.
+      await recordChange(tx, { changeId: input.changeId, runId, target: 'step', targetId: stepId, userId: user.id, at: now }, audit, progress, { rows: rejudgedRows, ownFieldId: null })
     })
     const step = await this.db.getRepository(RunStep).findOneByOrFail({ runId, stepId })
     return this.stepView(step)

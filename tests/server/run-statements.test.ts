@@ -11,7 +11,6 @@ import { chillerRun, rng } from '../../server/db/demo/readings'
 import { Equipment, Project, Reading, RunStep } from '../../server/entities'
 import { evaluateAll } from '../../server/services/run-record'
 import { installStarterLibrary } from '../../server/services/starter-library'
-import { chiller } from '../helpers/runs'
 import { createTestContext, makeOrganization, makeProject, makeUser, resetDatabase, signedInAgent, type TestContext } from '../helpers/context'
 
 // Every statement any pg client of this process sends while `counting` is on (TypeORM's pool and the session store's).
@@ -59,16 +58,17 @@ beforeEach(() => resetDatabase(ctx.db))
 // The demo's 500-ton machine: its design point has every value the generated readings are judged against.
 const machine = demoChiller('CH-3', 'Plant room', 'TW-3')
 
-async function startedRun() {
-  const org = await makeOrganization(ctx.db)
-  const admin = await makeUser(ctx.db, org, 'admin')
-  const tech = await makeUser(ctx.db, org, 'technician', { displayName: 'Ada Tech' })
-  const project = await makeProject(ctx.db, org, [tech.id])
-  await ctx.db.transaction((tx) => installStarterLibrary(tx, org.id, admin.id))
-  const adminAgent = await signedInAgent(ctx.app, admin)
+/** A technician's chiller run just started, on `c` (the file's context unless a test brings its own). */
+async function startedRun(c: TestContext = ctx) {
+  const org = await makeOrganization(c.db)
+  const admin = await makeUser(c.db, org, 'admin')
+  const tech = await makeUser(c.db, org, 'technician', { displayName: 'Ada Tech' })
+  const project = await makeProject(c.db, org, [tech.id])
+  await c.db.transaction((tx) => installStarterLibrary(tx, org.id, admin.id))
+  const adminAgent = await signedInAgent(c.app, admin)
   const equipment = (await adminAgent.post(`/api/projects/${project.id}/equipment`).send(machine).expect(201)).body.equipment
   const template = (await adminAgent.get('/api/templates')).body.templates.find((t: { key: string }) => t.key === 'centrifugal-chiller-startup')
-  const techAgent = await signedInAgent(ctx.app, tech)
+  const techAgent = await signedInAgent(c.app, tech)
   const run = (await techAgent.post(`/api/equipment/${equipment.id}/runs`).send({ templateId: template.id }).expect(201)).body.run
   return { tech, techAgent, run, definition: run.definition as ChecklistDefinition }
 }
@@ -156,16 +156,7 @@ describe('overload', () => {
   it('when every connection is busy, then a save is answered 503 with Retry-After, nothing is stored, and the same change goes through later', async () => {
     const busy = await createTestContext({ DB_POOL_SIZE: '2', DB_POOL_WAIT_MS: '300' })
     try {
-      const org = await makeOrganization(busy.db)
-      const admin = await makeUser(busy.db, org, 'admin')
-      const tech = await makeUser(busy.db, org, 'technician')
-      const project = await makeProject(busy.db, org, [tech.id])
-      await busy.db.transaction((tx) => installStarterLibrary(tx, org.id, admin.id))
-      const adminAgent = await signedInAgent(busy.app, admin)
-      const equipment = (await adminAgent.post(`/api/projects/${project.id}/equipment`).send(chiller).expect(201)).body.equipment
-      const template = (await adminAgent.get('/api/templates')).body.templates.find((t: { key: string }) => t.key === 'centrifugal-chiller-startup')
-      const techAgent = await signedInAgent(busy.app, tech)
-      const run = (await techAgent.post(`/api/equipment/${equipment.id}/runs`).send({ templateId: template.id }).expect(201)).body.run
+      const { techAgent, run } = await startedRun(busy)
 
       // Two long statements hold both connections of the pool.
       const holders = [busy.db.query('SELECT pg_sleep(2)'), busy.db.query('SELECT pg_sleep(2)')]
