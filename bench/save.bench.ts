@@ -11,6 +11,9 @@
 //              SAVE_BENCH_WARMUP_SECONDS=3  unmeasured closed loop before each measurement
 //              SAVE_BENCH_TIMEOUT_SECONDS=60  a save unanswered this long counts as a network error
 //              SAVE_BENCH_PROFILE=dir     V8 CPU profiles of the two servers, written there when they stop
+//              SAVE_BENCH_PG_STATS=1      load pg_stat_statements and print the product's costliest statements
+// Besides saves/s and latency it prints the CPU each save cost in the server process and in its PostgreSQL backends
+// (from /proc, over the measured window), which is steadier than throughput on a shared machine.
 // --strict exits 1 when a goal is missed (otherwise the goals are only printed).
 import { spawn, type ChildProcess } from 'node:child_process'
 import { randomBytes, randomUUID } from 'node:crypto'
@@ -43,6 +46,7 @@ const opts = {
   warmupSeconds: process.env.SAVE_BENCH_WARMUP_SECONDS === '0' ? 0 : envNumber('SAVE_BENCH_WARMUP_SECONDS', 3),
   timeoutSeconds: envNumber('SAVE_BENCH_TIMEOUT_SECONDS', 60),
   strict: process.argv.includes('--strict'),
+  pgStats: process.env.SAVE_BENCH_PG_STATS === '1',
 }
 const maxWriters = Math.max(...opts.writers)
 
@@ -98,6 +102,18 @@ for (const signal of ['SIGINT', 'SIGTERM'] as const) {
     console.error(`\n${signal}: stopping the servers and the cluster …`)
     void cleanup().finally(() => process.exit(130))
   })
+}
+
+/** CPU seconds (user + system) a process has used so far, from /proc; 0 when it is gone or /proc is not there. */
+const TICKS_PER_SECOND = 100 // USER_HZ on Linux
+function cpuSeconds(pid: number): number {
+  try {
+    const stat = fs.readFileSync(`/proc/${pid}/stat`, 'utf8')
+    const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ')
+    return (Number(fields[11]) + Number(fields[12])) / TICKS_PER_SECOND
+  } catch {
+    return 0
+  }
 }
 
 /** Starts a TypeScript file of bench/lib as a child process with tsx; resolves with the port it reports over IPC. */
@@ -204,7 +220,8 @@ function writerFor(lane: Lane, pathname: string, headers: Record<string, string>
 
 // ---------------------------------------------------------------------------------------------------------------------
 
-interface Measured { writers: number; floor: LoopResult; product: LoopResult }
+interface Cpu { serverMs: number; pgMs: number }
+interface Measured { writers: number; floor: LoopResult & { cpu: Cpu }; product: LoopResult & { cpu: Cpu } }
 
 function stats(r: LoopResult) {
   return {
@@ -232,13 +249,15 @@ function printLevel(m: Measured) {
   const f = stats(m.floor)
   const p = stats(m.product)
   console.log(`  Startproof / floor: saves/s ${ratio(p.savesPerSecond / f.savesPerSecond)}, p99 ${ratio(p.p99 / f.p99)}`)
+  const c = (x: Cpu) => `server ${x.serverMs.toFixed(2)} ms + PostgreSQL ${x.pgMs.toFixed(2)} ms = ${(x.serverMs + x.pgMs).toFixed(2)} ms`
+  console.log(`  CPU per save: floor ${c(m.floor.cpu)}; Startproof ${c(m.product.cpu)} (${ratio((m.product.cpu.serverMs + m.product.cpu.pgMs) / (m.floor.cpu.serverMs + m.floor.cpu.pgMs))})`)
 }
 
 async function main() {
   console.log(`Machine: ${os.cpus().length} × ${os.cpus()[0]?.model ?? 'cpu'}, Node ${process.version}`)
   console.log(`Load average before: ${loadavg()}`)
 
-  cluster = await startThrowawayCluster('startproof-bench-save-', 'startproof_bench')
+  cluster = await startThrowawayCluster('startproof-bench-save-', 'startproof_bench', opts.pgStats ? ['shared_preload_libraries=pg_stat_statements', 'pg_stat_statements.track=all', 'pg_stat_statements.track_planning=on'] : [])
   tmpRoot = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-bench-save-files-'))
   await migrateDatabase({ migrationUrl: cluster.url, appRole: cluster.appRole })
   owner = new pg.Client({ connectionString: cluster.url, application_name: 'startproof-bench' })
@@ -246,6 +265,7 @@ async function main() {
   const [{ server_version: version }] = (await owner.query(`SHOW server_version`)).rows
   console.log(`PostgreSQL ${version} on 127.0.0.1:${cluster.port} (throwaway, fsync off); migrations applied`)
   // The floor's table is DDL, so the owner makes it; the floor then connects as the application role, as the product does.
+  if (opts.pgStats) await owner.query(`CREATE EXTENSION IF NOT EXISTS pg_stat_statements`)
   await owner.query(FLOOR_TABLE_SQL)
   await owner.query(`GRANT SELECT, INSERT, UPDATE ON ${FLOOR_TABLE} TO ${cluster.appRole}`)
 
@@ -262,7 +282,7 @@ async function main() {
   const productPort = await freePort()
   const base = `http://127.0.0.1:${productPort}`
   t = performance.now()
-  await startChild('product', 'save-product.ts', {
+  const product = await startChild('product', 'save-product.ts', {
     NODE_ENV: 'production',
     SESSION_SECRET: randomBytes(32).toString('hex'),
     DATABASE_URL: cluster.appUrl,
@@ -322,17 +342,52 @@ async function main() {
       .catch(() => undefined)
   }, 500)
 
-  const run = async (label: string, origin: string, writers: Writer[]) => {
+  // The PostgreSQL backends serving a target: the floor's pool, or every connection the product opens (requests,
+  // sessions, jobs), but never the benchmark's own.
+  const backendsOf = async (target: 'floor' | 'product') =>
+    (
+      await owner!.query(
+        `SELECT pid FROM pg_stat_activity WHERE datname = current_database() AND backend_type = 'client backend'
+           AND (CASE WHEN $1 = 'floor' THEN application_name = 'startproof-bench-floor'
+                     ELSE application_name LIKE 'startproof%' AND application_name NOT LIKE 'startproof-bench%' END)`,
+        [target],
+      )
+    ).rows.map((r: { pid: number }) => r.pid)
+  const cpuOf = async (serverPid: number, target: 'floor' | 'product') => {
+    const pids = await backendsOf(target)
+    return { server: cpuSeconds(serverPid), backends: new Map(pids.map((pid) => [pid, cpuSeconds(pid)])) }
+  }
+
+  const run = async (label: string, target: 'floor' | 'product', origin: string, writers: Writer[]) => {
+    const serverPid = (target === 'floor' ? floor : product).child.pid ?? 0
     if (opts.warmupSeconds > 0) await closedLoop(origin, writers, opts.warmupSeconds * 1000, opts.timeoutSeconds * 1000)
+    if (opts.pgStats && target === 'product') await owner!.query(`SELECT pg_stat_statements_reset()`)
+    const before = await cpuOf(serverPid, target)
     const r = await closedLoop(origin, writers, opts.seconds * 1000, opts.timeoutSeconds * 1000)
+    const after = await cpuOf(serverPid, target)
+    // A backend opened during the window counts from zero; one closed during it is lost (pools keep theirs under load).
+    let pgSeconds = 0
+    for (const [pid, s] of after.backends) pgSeconds += s - (before.backends.get(pid) ?? 0)
+    const cpu = { serverMs: ((after.server - before.server) * 1000) / Math.max(r.ok, 1), pgMs: (pgSeconds * 1000) / Math.max(r.ok, 1) }
     console.log(`  … ${label}, ${writers.length} writers: ${r.ok} saves in ${r.seconds.toFixed(1)} s; load average ${loadavg()}`)
-    return r
+    if (opts.pgStats && target === 'product') await printStatements(r.ok)
+    return { ...r, cpu }
+  }
+  const printStatements = async (saves: number) => {
+    const { rows } = await owner!.query(
+      `SELECT calls, total_exec_time + total_plan_time AS total, total_plan_time AS plan, rows, left(regexp_replace(query, '\\s+', ' ', 'g'), 110) AS query
+         FROM pg_stat_statements WHERE dbid = (SELECT oid FROM pg_database WHERE datname = current_database())
+        ORDER BY 2 DESC LIMIT 12`,
+    )
+    console.log(`    The product's costliest statements over the window (planning + execution in PostgreSQL, per save):`)
+    for (const x of rows as { calls: string; total: number; plan: number; query: string }[])
+      console.log(`    ${(x.total / Math.max(saves, 1)).toFixed(3).padStart(7)} ms (plan ${(x.plan / Math.max(saves, 1)).toFixed(3)})  ${(Number(x.calls) / Math.max(saves, 1)).toFixed(2).padStart(5)} calls  ${x.query}`)
   }
   const measured: Measured[] = []
   console.log(`\nMeasuring (warm-up ${opts.warmupSeconds} s before each; time-out ${opts.timeoutSeconds} s) …`)
   for (const n of opts.writers) {
-    const floorResult = await run('floor', floorBase, floorWriters(n))
-    const productResult = await run('Startproof', base, productWriters(n))
+    const floorResult = await run('floor', 'floor', floorBase, floorWriters(n))
+    const productResult = await run('Startproof', 'product', base, productWriters(n))
     measured.push({ writers: n, floor: floorResult, product: productResult })
   }
   clearInterval(sampler)

@@ -15,6 +15,8 @@ export interface ClusterOptions {
   logFile: string
   /** Throwaway clusters trade durability for speed; never for real data. */
   throwaway?: boolean
+  /** More server settings, each as `name=value` (a benchmark's extensions, for one). */
+  settings?: string[]
 }
 
 const isRoot = () => typeof process.getuid === 'function' && process.getuid() === 0
@@ -129,6 +131,7 @@ export function startCluster(bin: string, opts: ClusterOptions): void {
     `-p ${opts.port}`,
     "-c unix_socket_directories=''",
     ...(opts.throwaway ? ['-c fsync=off', '-c synchronous_commit=off', '-c full_page_writes=off'] : []),
+    ...(opts.settings ?? []).map((x) => `-c ${x}`),
   ].join(' ')
   fs.mkdirSync(path.dirname(opts.logFile), { recursive: true })
   if (isRoot()) {
@@ -222,7 +225,7 @@ export interface ThrowawayCluster {
  * A throwaway cluster in a new temporary folder on a free loopback port, with `database` and the application role
  * created in it, for the tests and the benchmarks. Never for real data (fsync is off). The caller migrates.
  */
-export async function startThrowawayCluster(prefix: string, database: string): Promise<ThrowawayCluster> {
+export async function startThrowawayCluster(prefix: string, database: string, settings: string[] = []): Promise<ThrowawayCluster> {
   const bin = ensurePostgresInstalled()
   const root = fs.mkdtempSync(path.join(os.tmpdir(), prefix))
   fs.chmodSync(root, 0o755)
@@ -238,7 +241,7 @@ export async function startThrowawayCluster(prefix: string, database: string): P
   }
   try {
     initCluster(bin, dataDir)
-    startCluster(bin, { dataDir, port, logFile, throwaway: true })
+    startCluster(bin, { dataDir, port, logFile, throwaway: true, settings })
     ensureDatabase(bin, port, database)
     ensureAppRole(bin, port)
   } catch (err) {
