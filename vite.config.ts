@@ -4,12 +4,19 @@ import vue from '@vitejs/plugin-vue'
 import Components from 'unplugin-vue-components/vite'
 import { ElementPlusResolver } from 'unplugin-vue-components/resolvers'
 import { compression } from 'vite-plugin-compression2'
+import { routeBundles } from './build/route-bundles.ts'
+import { RUN_PATH, SIGN_IN_PATH } from './client/router/paths.ts'
 
 const apiPort = Number(process.env.API_PORT ?? 3001)
+const bundles = routeBundles(fileURLToPath(new URL('.', import.meta.url)), [
+  { name: 'sign-in', roots: ['client/views/SignInView.vue'], paths: [SIGN_IN_PATH] },
+  { name: 'runner', roots: ['client/views/RunView.vue', 'client/components/AppShell.vue'], paths: [RUN_PATH] },
+])
 
 export default defineConfig({
   plugins: [
     vue(),
+    bundles.plugin,
     Components({
       dirs: ['client/components'],
       dts: 'client/components.d.ts',
@@ -28,7 +35,15 @@ export default defineConfig({
   // The manifest lists each chunk's static imports: bench/client.bench.ts follows it to weigh a cold load per route.
   // One stylesheet for the whole client: on a slow link each extra file costs a round trip, and the styles of every
   // page together are smaller (brotli) than the round trips of the twenty small sheets a run step asked for.
-  build: { outDir: 'dist/client', emptyOutDir: true, chunkSizeWarningLimit: 1200, manifest: true, cssCodeSplit: false },
+  build: {
+    outDir: 'dist/client',
+    emptyOutDir: true,
+    chunkSizeWarningLimit: 1200,
+    manifest: true,
+    cssCodeSplit: false,
+    // One file per page on a cold load for the two pages a tablet opens on weak signal (build/route-bundles.ts).
+    rolldownOptions: { output: { codeSplitting: { groups: bundles.groups } } },
+  },
   server: {
     port: 5173,
     proxy: { '/api': { target: `http://127.0.0.1:${apiPort}`, changeOrigin: false } },

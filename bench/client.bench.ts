@@ -13,6 +13,7 @@ import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
 import zlib from 'node:zlib'
+import { ROUTE_BUNDLES_FILE, type RouteBundlesFile } from '../build/route-bundles'
 
 const args = new Map(process.argv.slice(2).map((a) => {
   const [k, v] = a.replace(/^--/, '').split('=')
@@ -85,6 +86,18 @@ function staticClosure(manifest: Manifest, keys: string[]): string[] {
   return [...seen]
 }
 
+/**
+ * The manifest key of the chunk that holds `src`: its own chunk, or the route bundle it was merged into
+ * (build/route-bundles.ts), which the manifest names by file only.
+ */
+function chunkKeyOf(manifest: Manifest, bundles: RouteBundlesFile | null, src: string): string {
+  if (manifest[src]) return src
+  const bundle = bundles?.bundles.find((b) => b.roots.includes(src))
+  const key = bundle && Object.keys(manifest).find((k) => manifest[k].file === bundle.files[0])
+  if (!key) throw new Error(`The manifest has no chunk for "${src}", and no route bundle holds it`)
+  return key
+}
+
 function filesOf(manifest: Manifest, keys: string[]) {
   const js = new Set<string>()
   const css = new Set<string>()
@@ -114,6 +127,8 @@ function main() {
   const manifestPath = path.join(outDir, '.vite', 'manifest.json')
   if (!fs.existsSync(manifestPath)) throw new Error(`${manifestPath} is missing: build.manifest must be on in vite.config.ts`)
   const manifest = JSON.parse(fs.readFileSync(manifestPath, 'utf8')) as Manifest
+  const bundlesPath = path.join(outDir, ROUTE_BUNDLES_FILE)
+  const bundles = fs.existsSync(bundlesPath) ? (JSON.parse(fs.readFileSync(bundlesPath, 'utf8')) as RouteBundlesFile) : null
   const entry = Object.keys(manifest).find((k) => manifest[k].isEntry)
   if (!entry) throw new Error('The manifest has no entry chunk')
 
@@ -125,8 +140,8 @@ function main() {
   let over = 0
   for (const route of ROUTES) {
     // Before the frame was split from the entry, the manifest has no chunk of its own for it.
-    const shell = route.shell && manifest[SHELL] ? [SHELL] : []
-    const keys = staticClosure(manifest, [entry, route.view, ...shell])
+    const shell = route.shell && (manifest[SHELL] || bundles?.bundles.some((b) => b.roots.includes(SHELL))) ? [chunkKeyOf(manifest, bundles, SHELL)] : []
+    const keys = staticClosure(manifest, [entry, chunkKeyOf(manifest, bundles, route.view), ...shell])
     const { js, css } = filesOf(manifest, keys)
     const jsSizes = total(js)
     const cssSizes = total(css)

@@ -168,7 +168,7 @@ async function send<T>(method: Method, url: string, init: { headers: Record<stri
   }
   if (!res.ok) {
     const { error: err, ...details } = (data && typeof data === 'object' ? data : {}) as { error?: ApiErrorBody } & Record<string, unknown>
-    if (res.status === 401 && err?.code === 'not_signed_in' && url !== '/session') unauthenticatedHandler?.(url)
+    if (res.status === 401 && err?.code === 'not_signed_in' && url.split('?')[0] !== '/session') unauthenticatedHandler?.(url)
     throw new ApiError(res.status, err?.code ?? 'http_' + res.status, err?.message ?? `The server answered ${res.status} ${res.statusText}`, err?.fields, details, retryAfterMs(res.headers.get('Retry-After')))
   }
   return data as T

@@ -7,8 +7,21 @@ import { http, upload } from './http'
 
 export { ApiError } from './http'
 
+/** Whether this page has asked who is signed in yet (see `sessionApi.me`). */
+let sessionAsked = false
+
 export const sessionApi = {
-  me: () => http.get<{ user: SessionUser }>('/session').then((r) => r.user),
+  /**
+   * Who is signed in. The server's Link header has the browser ask `/api/session` while index.html loads
+   * (server/middleware/client-assets.ts), and only the page's first question takes that answer; every later one, and a
+   * first one asked after the sign-in may have changed (`afterChange`: a pending sign-out was just sent), goes under
+   * another address, so an answer older than the question is never read.
+   */
+  me: (afterChange = false) => {
+    const preloaded = !afterChange && !sessionAsked
+    sessionAsked = true
+    return http.get<{ user: SessionUser }>(preloaded ? '/session' : '/session?after=change').then((r) => r.user)
+  },
   signIn: (input: SignInInput) => http.post<{ user: SessionUser }>('/session', input).then((r) => r.user),
   signOut: () => http.delete<void>('/session'),
   changePassword: (input: PasswordChangeInput) => http.put<void>('/account/password', input),

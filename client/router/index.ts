@@ -1,6 +1,7 @@
 import { createRouter, createWebHistory, type RouteLocationNormalized, type RouteLocationRaw, type RouteRecordRaw } from 'vue-router'
 import type { Role } from '@shared/types/roles'
 import { useSessionStore } from '@/stores/session'
+import { RUN_PATH, SIGN_IN_PATH } from './paths'
 
 export type RouteName =
   | 'sign-in'
@@ -40,7 +41,7 @@ type NamedRoute = RouteRecordRaw & { name: RouteName }
 export const loadAppShell = () => import('@/components/AppShell.vue')
 
 const routes: NamedRoute[] = [
-  { path: '/sign-in', name: 'sign-in', component: () => import('@/views/SignInView.vue'), meta: { public: true, title: 'Sign in' } },
+  { path: SIGN_IN_PATH, name: 'sign-in', component: () => import('@/views/SignInView.vue'), meta: { public: true, title: 'Sign in' } },
   { path: '/', name: 'today', component: () => import('@/views/TodayView.vue'), meta: { roles: ['technician'], title: 'Today' } },
   { path: '/projects', name: 'projects', component: () => import('@/views/ProjectsView.vue'), meta: { title: 'Projects' } },
   { path: '/projects/:projectId', name: 'project', component: () => import('@/views/ProjectView.vue'), meta: { title: 'Project' }, props: true },
@@ -62,7 +63,7 @@ const routes: NamedRoute[] = [
     props: (route) => ({ templateId: route.params.templateId, from: route.query.from, to: route.query.to }),
   },
   { path: '/people', name: 'people', component: () => import('@/views/PeopleView.vue'), meta: { roles: ['admin'], title: 'People' } },
-  { path: '/runs/:runId', name: 'run', component: () => import('@/views/RunView.vue'), meta: { title: 'Run', offline: true }, props: true },
+  { path: RUN_PATH, name: 'run', component: () => import('@/views/RunView.vue'), meta: { title: 'Run', offline: true }, props: true },
   { path: '/runs/:runId/review', name: 'run-review', component: () => import('@/views/RunReviewView.vue'), meta: { title: 'Review' }, props: true },
   { path: '/archive', name: 'archive', component: () => import('@/views/ArchiveView.vue'), meta: { title: 'Archive' } },
   { path: '/outbox', name: 'outbox', component: () => import('@/views/OutboxView.vue'), meta: { roles: ['admin'], title: 'Outbox' } },
@@ -83,13 +84,8 @@ export function to(name: RouteName, params?: Record<string, string>): RouteLocat
 
 const router = createRouter({ history: createWebHistory(), routes })
 
-/**
- * Starts fetching the chunks of a signed-in page (its view and the app's frame) while the session is still being asked
- * for: the router would otherwise fetch the view only after GET /api/session answers, one more round trip on a slow
- * link. The browser fetches each module once, so the router's own import later costs nothing.
- */
-function preloadSignedInPage(target: RouteLocationNormalized) {
-  void loadAppShell().catch(() => undefined)
+/** Starts fetching the chunks of a route's view (the router's own import later finds the module already loaded). */
+function preloadView(target: RouteLocationNormalized) {
   for (const record of target.matched) {
     for (const component of Object.values(record.components ?? {})) {
       // vue-router's own test for a lazy route component: a function that is not itself a component.
@@ -101,8 +97,14 @@ function preloadSignedInPage(target: RouteLocationNormalized) {
 
 router.beforeEach(async (target) => {
   const session = useSessionStore()
-  // Someone signed in here before (or still is): most likely the page opens, so its chunks need not wait for the session.
-  if (!target.meta.public && (session.user ?? session.deviceUser)) preloadSignedInPage(target)
+  // The router would fetch the view only after GET /api/session answers, one more round trip on a slow link. A public
+  // page opens whoever asks; a signed-in page most likely opens when someone signed in here before (or still is), and
+  // then needs the app's frame too.
+  if (target.meta.public) preloadView(target)
+  else if (session.user ?? session.deviceUser) {
+    void loadAppShell().catch(() => undefined)
+    preloadView(target)
+  }
   try {
     await session.ensureLoaded()
   } catch (err) {

@@ -93,7 +93,8 @@ export const useSessionStore = defineStore('session', () => {
   }
 
   async function load() {
-    if (signOutPending()) {
+    const pendingSignOut = signOutPending()
+    if (pendingSignOut) {
       // Signed out with no connection: end that sign-in on the server before anyone may use it.
       try {
         await sessionApi.signOut()
@@ -104,7 +105,8 @@ export const useSessionStore = defineStore('session', () => {
       }
     }
     try {
-      user.value = await sessionApi.me()
+      // The answer the browser fetched with the page predates that sign-out and still names the person: ask anew.
+      user.value = await sessionApi.me(pendingSignOut)
     } catch (err) {
       if (!(err instanceof ApiError && err.status === 401)) throw err
       forgetUser()

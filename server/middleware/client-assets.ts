@@ -1,6 +1,7 @@
 import express, { type Express, type RequestHandler, type Response } from 'express'
 import fs from 'node:fs'
 import path from 'node:path'
+import { ROUTE_BUNDLES_FILE, type RouteBundlesFile } from '../../build/route-bundles'
 
 /** Vite's output under assets/ is named by its content's hash: a new build never reuses a name for other bytes. */
 export const IMMUTABLE_CACHE = 'public, max-age=31536000, immutable'
@@ -31,13 +32,41 @@ export function serveClient(app: Express, clientDist: string): void {
   // browser must not run index.html as a script or a stylesheet.
   app.use('/assets', (_req, res) => void res.status(404).set('Cache-Control', 'no-cache').type('text/plain').send('Not found'))
   const index = precompressed(root, variants, '', () => INDEX_CACHE)
+  const hints = preloadHints(root)
   app.use(precompressed(root, variants, '', (file) => (path.basename(file).startsWith('index.html') ? INDEX_CACHE : PUBLIC_FILE_CACHE)))
   // History-mode routes of the single-page client all load index.html.
   app.get(/^\/(?!api\/).*/, (req, res, next) => {
+    res.setHeader('Link', [SESSION_PRELOAD, hints(req.path)].filter(Boolean).join(', '))
     req.url = '/index.html'
     index(req, res, next)
   })
 }
+
+/**
+ * The `Link` header of index.html for a client path: the files of the page's route bundle (build/route-bundles.ts) as
+ * module preloads, so a cold load fetches them beside the entry instead of one round trip after it. Null for a path no
+ * bundle names, or when the build wrote no route bundles.
+ */
+export function preloadHints(root: string): (urlPath: string) => string | null {
+  const file = path.join(root, ROUTE_BUNDLES_FILE)
+  if (!fs.existsSync(file)) return () => null
+  const { bundles } = JSON.parse(fs.readFileSync(file, 'utf8')) as RouteBundlesFile
+  const routes = bundles.flatMap((b) =>
+    b.paths.map((p) => ({
+      // `/runs/:runId` → ^/runs/[^/]+/?$ (the router's own path syntax, parameters only).
+      pattern: new RegExp(`^${p.split('/').map((seg) => (seg.startsWith(':') ? '[^/]+' : seg.replace(/[.*+?^${}()|[\]\\]/g, '\\$&'))).join('/')}/?$`),
+      link: b.files.map((f) => `</${f}>; rel=modulepreload`).join(', '),
+    })),
+  )
+  return (urlPath) => routes.find((r) => r.pattern.test(urlPath))?.link ?? null
+}
+
+/**
+ * Every page of the client first asks who is signed in (client/stores/session.ts): named here, the browser asks while
+ * the scripts are still arriving instead of after they run. `crossorigin` makes it the same CORS request, with the
+ * cookie, as the page's own `fetch`, so the page takes this answer instead of asking again.
+ */
+export const SESSION_PRELOAD = '</api/session>; rel=preload; as=fetch; crossorigin'
 
 /** Every file of the build that has precompressed copies beside it, as its URL path from the client's root. */
 function compressedVariants(root: string): Map<string, Set<EncodingName>> {

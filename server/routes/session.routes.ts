@@ -1,7 +1,7 @@
 import { Router, type RequestHandler } from 'express'
 import { rateLimit } from 'express-rate-limit'
 import type { AppPassport } from '../auth/passport'
-import { passwordChangeSchema, signInSchema } from '@shared/schemas/auth'
+import { passwordChangeSchema, sessionQuerySchema, signInSchema } from '@shared/schemas/auth'
 import type { SessionUser } from '@shared/types/api'
 import type { Config } from '../config'
 import { AppError } from '../errors/app-error'
@@ -56,7 +56,7 @@ export function sessionRoutes({ config, passport, users, rateLimitStore }: Deps)
 
   router.post('/session', signInLimit, validate({ body: signInSchema }), signIn)
 
-  router.get('/session', (req, res) => {
+  router.get('/session', validate({ query: sessionQuerySchema }), (req, res) => {
     if (!req.user) throw AppError.unauthenticated()
     res.json({ user: req.user })
   })

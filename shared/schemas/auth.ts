@@ -42,3 +42,13 @@ export const passwordChangeSchema = yup
 export type PasswordChangeInput = yup.InferType<typeof passwordChangeSchema>
 
 export { email as emailSchema, newPassword as newPasswordSchema }
+
+/**
+ * `GET /api/session` takes one optional parameter: `after=change`, which the client adds when the answer the browser
+ * preloaded with the page may be out of date (client/api/index.ts). It changes nothing on the server; any other
+ * parameter is refused.
+ */
+export const sessionQuerySchema = yup
+  .object({ after: yup.string().strict().oneOf(['change'], 'after may only be "change"').optional() })
+  .noUnknown(({ unknown }) => `Unknown parameter: ${unknown}`)
+  .strict()

@@ -4,7 +4,8 @@ import type { AddressInfo } from 'node:net'
 import path from 'node:path'
 import zlib from 'node:zlib'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
-import { chooseEncoding } from '../../server/middleware/client-assets'
+import { ROUTE_BUNDLES_FILE, type RouteBundlesFile } from '../../build/route-bundles'
+import { chooseEncoding, SESSION_PRELOAD } from '../../server/middleware/client-assets'
 import { createTestContext, type TestContext } from '../helpers/context'
 import { clientBuilt } from '../helpers/product'
 
@@ -149,6 +150,70 @@ describe('index.html and the other files', () => {
     const res = await get('/api/no-such-thing', { 'Accept-Encoding': 'br' })
     expect(res.status).toBe(404)
     expect(res.headers['content-type']).toMatch(/application\/json/)
+  })
+})
+
+describe('a page arrives in one round trip: its route bundle and the session named in the Link header of index.html', () => {
+  const bundles = () => (JSON.parse(fs.readFileSync(path.join(dist, ROUTE_BUNDLES_FILE), 'utf8')) as RouteBundlesFile).bundles
+  const bundle = (name: string) => bundles().find((b) => b.name === name)!
+  /** `</a>; rel=x, </b>; rel=y` → [['/a', 'rel=x'], …] */
+  const links = (header: string | string[] | undefined) =>
+    String(header ?? '')
+      .split(/,\s*(?=<)/)
+      .filter(Boolean)
+      .map((part) => {
+        const [target, ...params] = part.split(';').map((x) => x.trim())
+        return [target.replace(/^<|>$/g, ''), params.join('; ')] as const
+      })
+
+  it('when the build is read, then the sign-in page and the runner are a bundle each, and the entry imports neither', () => {
+    const m = manifest()
+    // The views were merged into their bundles: the manifest has no chunk of their own for them.
+    expect(m['client/views/SignInView.vue']).toBeUndefined()
+    expect(m['client/views/RunView.vue']).toBeUndefined()
+    expect(bundle('sign-in').roots).toEqual(['client/views/SignInView.vue'])
+    expect(bundle('runner').roots).toContain('client/views/RunView.vue')
+    // The runner's bundle needs the sign-in bundle (forms and controls both pages use), never the other way round.
+    expect(bundle('sign-in').files).toHaveLength(1)
+    expect(bundle('runner').files).toEqual([expect.stringMatching(/^assets\/runner-/), bundle('sign-in').files[0]])
+    const entryImports = (entry() as ManifestChunk & { imports?: string[] }).imports ?? []
+    for (const key of entryImports) expect(bundles().flatMap((b) => b.files)).not.toContain(m[key].file)
+    // The route bundles' file itself is not served: Vite's folder is a dot-folder, and express.static ignores those.
+    expect(ROUTE_BUNDLES_FILE.startsWith('.vite/')).toBe(true)
+  })
+
+  it.each([
+    ['/sign-in', 'sign-in'],
+    ['/sign-in?redirect=%2Fprojects', 'sign-in'],
+    ['/runs/0b6f3c7e-0000-4000-8000-000000000000', 'runner'],
+    ['/runs/0b6f3c7e-0000-4000-8000-000000000000/', 'runner'],
+  ])('when %s is opened, then the Link header preloads the session and every file of the %s bundle, each served', async (urlPath, name) => {
+    const res = await get(urlPath, { 'Accept-Encoding': 'br' })
+    expect(res.status).toBe(200)
+    const hinted = links(res.headers.link)
+    expect(hinted[0]).toEqual(['/api/session', 'rel=preload; as=fetch; crossorigin'])
+    expect(hinted.slice(1)).toEqual(bundle(name).files.map((f) => [`/${f}`, 'rel=modulepreload']))
+    for (const [target] of hinted.slice(1)) {
+      const asset = await get(target, { 'Accept-Encoding': 'br' })
+      expect(asset.status, target).toBe(200)
+      expect(asset.headers['content-type']).toMatch(/javascript/)
+    }
+  })
+
+  it.each(['/', '/projects', '/runs/0b6f3c7e-0000-4000-8000-000000000000/review', '/runs'])(
+    'when %s (a page without a bundle) is opened, then only the session is preloaded',
+    async (urlPath) => {
+      const res = await get(urlPath, { 'Accept-Encoding': 'br' })
+      expect(links(res.headers.link)).toEqual([['/api/session', 'rel=preload; as=fetch; crossorigin']])
+    },
+  )
+
+  it('when the preloaded session is asked for by a tablet nobody is signed in on, then it is the JSON answer the client reads as "signed out"', async () => {
+    expect(SESSION_PRELOAD).toContain('</api/session>')
+    const res = await get('/api/session')
+    expect(res.status).toBe(401)
+    expect(res.headers['content-type']).toMatch(/application\/json/)
+    expect(JSON.parse(res.body.toString('utf8'))).toMatchObject({ error: { code: 'not_signed_in' } })
   })
 })
 

@@ -131,6 +131,28 @@ describe('GET and DELETE /api/session', () => {
     expect(await ctx.db.query(`SELECT count(*)::int AS n FROM session`)).toEqual([{ n: 0 }])
   })
 
+  it('when the client asks anew under ?after=change, then the answer is the same; any other parameter is a 400 naming it', async () => {
+    const org = await makeOrganization(ctx.db)
+    const rep = await makeUser(ctx.db, org, 'owner_rep')
+    const agent = await signedInAgent(ctx.app, rep)
+
+    const plain = await agent.get('/api/session').expect(200)
+    const anew = await agent.get('/api/session?after=change').expect(200)
+    expect(anew.body).toEqual(plain.body)
+    await agent.delete('/api/session').expect(204)
+    expect((await agent.get('/api/session?after=change')).status).toBe(401)
+
+    for (const [query, field] of [
+      ['after=now', 'query.after'],
+      ['after=change&after=change', 'query.after'],
+      ['x=1', 'query'],
+    ] as const) {
+      const res = await agent.get(`/api/session?${query}`)
+      expect(res.status, query).toBe(400)
+      expect(Object.keys(res.body.error.fields), query).toEqual([field])
+    }
+  })
+
   it('when the server restarts, then the session stored in PostgreSQL still signs the user in', async () => {
     const org = await makeOrganization(ctx.db)
     const tech = await makeUser(ctx.db, org, 'technician')
