@@ -12,6 +12,9 @@
 //              SAVE_BENCH_TIMEOUT_SECONDS=60  a save unanswered this long counts as a network error
 //              SAVE_BENCH_PROFILE=dir     V8 CPU profiles of the two servers, written there when they stop
 //              SAVE_BENCH_PG_STATS=1      load pg_stat_statements and print the product's costliest statements
+//              SAVE_BENCH_DURABLE=0       run PostgreSQL with fsync and synchronous commit off, as the tests do
+//                                         (default: on, as the cluster of `npm start` and any real installation has
+//                                         them, so every save and every floor upsert waits for its commit to be on disk)
 // Besides saves/s and latency it prints the CPU each save cost in the server process and in its PostgreSQL backends
 // (from /proc, over the measured window), which is steadier than throughput on a shared machine.
 // --strict exits 1 when a goal is missed (otherwise the goals are only printed).
@@ -27,7 +30,7 @@ import { createDataSource } from '../server/db/data-source'
 import { migrateDatabase } from '../server/db/migrate'
 import { DEMO_PEOPLE, demoChiller, loadDemoData } from '../server/db/demo-data'
 import { closedLoop, quantile, type LoopResult, type Writer } from './lib/closed-loop'
-import { FLOOR_TABLE, FLOOR_TABLE_SQL } from './lib/floor-table'
+import { FLOOR_AUDIT_TABLE, FLOOR_AUDIT_TABLE_SQL, FLOOR_TABLE, FLOOR_TABLE_SQL } from './lib/floor-table'
 
 const envNumber = (name: string, fallback: number) => {
   const v = process.env[name]
@@ -47,6 +50,7 @@ const opts = {
   timeoutSeconds: envNumber('SAVE_BENCH_TIMEOUT_SECONDS', 60),
   strict: process.argv.includes('--strict'),
   pgStats: process.env.SAVE_BENCH_PG_STATS === '1',
+  durable: process.env.SAVE_BENCH_DURABLE !== '0',
 }
 const maxWriters = Math.max(...opts.writers)
 
@@ -221,7 +225,7 @@ function writerFor(lane: Lane, pathname: string, headers: Record<string, string>
 // ---------------------------------------------------------------------------------------------------------------------
 
 interface Cpu { serverMs: number; pgMs: number }
-interface Measured { writers: number; floor: LoopResult & { cpu: Cpu }; product: LoopResult & { cpu: Cpu } }
+interface Measured { writers: number; floor: LoopResult & { cpu: Cpu }; obliged: LoopResult & { cpu: Cpu }; product: LoopResult & { cpu: Cpu } }
 
 function stats(r: LoopResult) {
   return {
@@ -237,7 +241,7 @@ function printLevel(m: Measured) {
   console.log(`\n${m.writers} writers, ${opts.seconds} s each (closed loop; saves still waiting at the end are awaited and counted)`)
   console.log(head)
   console.log(`  ${'-'.repeat(head.length - 2)}`)
-  for (const [name, r] of [['floor', m.floor], ['Startproof', m.product]] as const) {
+  for (const [name, r] of [['floor', m.floor], ['obliged', m.obliged], ['Startproof', m.product]] as const) {
     const s = stats(r)
     const answered = r.latencies.length || 1
     const statuses = [...r.statuses.entries()].sort((a, b) => a[0] - b[0]).map(([code, n]) => `${code}×${n}`).join(' ')
@@ -248,26 +252,36 @@ function printLevel(m: Measured) {
   }
   const f = stats(m.floor)
   const p = stats(m.product)
+  const o = stats(m.obliged)
   console.log(`  Startproof / floor: saves/s ${ratio(p.savesPerSecond / f.savesPerSecond)}, p99 ${ratio(p.p99 / f.p99)}`)
+  console.log(`  obliged floor / floor: saves/s ${ratio(o.savesPerSecond / f.savesPerSecond)}, p99 ${ratio(o.p99 / f.p99)} (the least any signed-in, audited save costs)`)
+  console.log(`  Startproof / obliged floor: saves/s ${ratio(p.savesPerSecond / o.savesPerSecond)}, p99 ${ratio(p.p99 / o.p99)}`)
   const c = (x: Cpu) => `server ${x.serverMs.toFixed(2)} ms + PostgreSQL ${x.pgMs.toFixed(2)} ms = ${(x.serverMs + x.pgMs).toFixed(2)} ms`
-  console.log(`  CPU per save: floor ${c(m.floor.cpu)}; Startproof ${c(m.product.cpu)} (${ratio((m.product.cpu.serverMs + m.product.cpu.pgMs) / (m.floor.cpu.serverMs + m.floor.cpu.pgMs))})`)
+  const sum = (x: Cpu) => x.serverMs + x.pgMs
+  console.log(`  CPU per save: floor ${c(m.floor.cpu)}; obliged ${c(m.obliged.cpu)} (${ratio(sum(m.obliged.cpu) / sum(m.floor.cpu))}); Startproof ${c(m.product.cpu)} (${ratio(sum(m.product.cpu) / sum(m.floor.cpu))})`)
 }
 
 async function main() {
   console.log(`Machine: ${os.cpus().length} × ${os.cpus()[0]?.model ?? 'cpu'}, Node ${process.version}`)
   console.log(`Load average before: ${loadavg()}`)
 
-  cluster = await startThrowawayCluster('startproof-bench-save-', 'startproof_bench', opts.pgStats ? ['shared_preload_libraries=pg_stat_statements', 'pg_stat_statements.track=all', 'pg_stat_statements.track_planning=on'] : [])
+  cluster = await startThrowawayCluster('startproof-bench-save-', 'startproof_bench', {
+    durable: opts.durable,
+    settings: opts.pgStats ? ['shared_preload_libraries=pg_stat_statements', 'pg_stat_statements.track=all', 'pg_stat_statements.track_planning=on'] : [],
+  })
   tmpRoot = fs.mkdtempSync(path.join(os.tmpdir(), 'startproof-bench-save-files-'))
   await migrateDatabase({ migrationUrl: cluster.url, appRole: cluster.appRole })
   owner = new pg.Client({ connectionString: cluster.url, application_name: 'startproof-bench' })
   await owner.connect()
   const [{ server_version: version }] = (await owner.query(`SHOW server_version`)).rows
-  console.log(`PostgreSQL ${version} on 127.0.0.1:${cluster.port} (throwaway, fsync off); migrations applied`)
+  const durability = (await owner.query(`SELECT current_setting('fsync') AS fsync, current_setting('synchronous_commit') AS sc`)).rows[0]
+  console.log(`PostgreSQL ${version} on 127.0.0.1:${cluster.port} (throwaway; fsync ${durability.fsync}, synchronous_commit ${durability.sc}); migrations applied`)
   // The floor's table is DDL, so the owner makes it; the floor then connects as the application role, as the product does.
   if (opts.pgStats) await owner.query(`CREATE EXTENSION IF NOT EXISTS pg_stat_statements`)
   await owner.query(FLOOR_TABLE_SQL)
   await owner.query(`GRANT SELECT, INSERT, UPDATE ON ${FLOOR_TABLE} TO ${cluster.appRole}`)
+  await owner.query(FLOOR_AUDIT_TABLE_SQL)
+  await owner.query(`GRANT INSERT ON ${FLOOR_AUDIT_TABLE} TO ${cluster.appRole}`)
 
   // The demo firm, people, projects and library (no history), loaded as the application role as npm start does.
   const demo = createDataSource(cluster.appUrl, { poolSize: 2 })
@@ -282,9 +296,10 @@ async function main() {
   const productPort = await freePort()
   const base = `http://127.0.0.1:${productPort}`
   t = performance.now()
+  const sessionSecret = randomBytes(32).toString('hex')
   const product = await startChild('product', 'save-product.ts', {
     NODE_ENV: 'production',
-    SESSION_SECRET: randomBytes(32).toString('hex'),
+    SESSION_SECRET: sessionSecret,
     DATABASE_URL: cluster.appUrl,
     MIGRATION_DATABASE_URL: cluster.url,
     PORT: String(productPort),
@@ -297,7 +312,7 @@ async function main() {
     REPORT_WORKER: 'false',
   })
   console.log(`Startproof serving on ${base} (child process, pool ${poolSize}) after ${((performance.now() - t) / 1000).toFixed(1)} s`)
-  const floor = await startChild('floor', 'save-floor.ts', { FLOOR_DATABASE_URL: cluster.appUrl, FLOOR_POOL_SIZE: String(poolSize) })
+  const floor = await startChild('floor', 'save-floor.ts', { FLOOR_DATABASE_URL: cluster.appUrl, FLOOR_POOL_SIZE: String(poolSize), FLOOR_SESSION_SECRET: sessionSecret })
   const floorBase = `http://127.0.0.1:${floor.port}`
   console.log(`Floor serving on ${floorBase} (child process, Express 5 + pg, pool ${poolSize})`)
 
@@ -327,9 +342,12 @@ async function main() {
   }
   console.log(`${maxWriters} chillers and runs on ${project.code} for ${technician.displayName}, one signed-in session each, in ${((performance.now() - t) / 1000).toFixed(1)} s; every save writes ${FIELD_ID} (${FIELD_UNIT})`)
   const floorLanes: Lane[] = lanes.map(() => ({ runId: randomUUID(), cookie: '', version: 0, seq: 0, answeredOk: 0 }))
+  // The obliged floor's writers send the product's session cookies (it checks them against the product's sessions).
+  const obligedLanes: Lane[] = lanes.map((l) => ({ runId: randomUUID(), cookie: l.cookie, version: 0, seq: 0, answeredOk: 0 }))
 
   const productWriters = (n: number) => lanes.slice(0, n).map((l) => writerFor(l, `/api/runs/${l.runId}/readings/${FIELD_ID}`, { origin: base, cookie: l.cookie }))
   const floorWriters = (n: number) => floorLanes.slice(0, n).map((l) => writerFor(l, `/floor/runs/${l.runId}/readings/${FIELD_ID}`, { origin: floorBase }))
+  const obligedWriters = (n: number) => obligedLanes.slice(0, n).map((l) => writerFor(l, `/floor-obliged/runs/${l.runId}/readings/${FIELD_ID}`, { origin: floorBase, cookie: l.cookie }))
 
   // Connections each target holds on PostgreSQL, sampled while it is measured.
   const peakConnections = new Map<string, number>()
@@ -387,8 +405,9 @@ async function main() {
   console.log(`\nMeasuring (warm-up ${opts.warmupSeconds} s before each; time-out ${opts.timeoutSeconds} s) …`)
   for (const n of opts.writers) {
     const floorResult = await run('floor', 'floor', floorBase, floorWriters(n))
+    const obligedResult = await run('obliged floor', 'floor', floorBase, obligedWriters(n))
     const productResult = await run('Startproof', 'product', base, productWriters(n))
-    measured.push({ writers: n, floor: floorResult, product: productResult })
+    measured.push({ writers: n, floor: floorResult, obliged: obligedResult, product: productResult })
   }
   clearInterval(sampler)
 
@@ -400,7 +419,8 @@ async function main() {
   const stored = async (sql: string, ids: string[]) => Number((await owner!.query(sql, [ids, FIELD_ID])).rows[0].n ?? 0)
   const storedProduct = await stored(`SELECT sum(version) AS n FROM reading WHERE run_id = ANY($1::uuid[]) AND field_id = $2`, lanes.map((x) => x.runId))
   const storedFloor = await stored(`SELECT sum(version) AS n FROM ${FLOOR_TABLE} WHERE run_id = ANY($1::uuid[]) AND field_id = $2`, floorLanes.map((x) => x.runId))
-  for (const [name, n, ls] of [['floor', storedFloor, floorLanes], ['Startproof', storedProduct, lanes]] as const) {
+  const storedObliged = await stored(`SELECT sum(version) AS n FROM ${FLOOR_TABLE} WHERE run_id = ANY($1::uuid[]) AND field_id = $2`, obligedLanes.map((x) => x.runId))
+  for (const [name, n, ls] of [['floor', storedFloor, floorLanes], ['obliged floor', storedObliged, obligedLanes], ['Startproof', storedProduct, lanes]] as const) {
     const ok = ls.reduce((a, x) => a + x.answeredOk, 0)
     console.log(`${name}: ${ok} saves answered 2xx (warm-ups included), ${n} stored${n > ok ? ` — ${n - ok} kept although answered with an error` : n < ok ? ` — ${ok - n} answered 2xx but not stored` : ''}`)
   }

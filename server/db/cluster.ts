@@ -13,8 +13,10 @@ export interface ClusterOptions {
   dataDir: string
   port: number
   logFile: string
-  /** Throwaway clusters trade durability for speed; never for real data. */
+  /** Throwaway clusters trade durability for speed (fsync and synchronous commit off); never for real data. */
   throwaway?: boolean
+  /** A throwaway cluster that keeps PostgreSQL's durable defaults anyway (a benchmark measuring commits as deployed). */
+  durable?: boolean
   /** More server settings, each as `name=value` (a benchmark's extensions, for one). */
   settings?: string[]
 }
@@ -130,7 +132,7 @@ export function startCluster(bin: string, opts: ClusterOptions): void {
     '-c listen_addresses=127.0.0.1',
     `-p ${opts.port}`,
     "-c unix_socket_directories=''",
-    ...(opts.throwaway ? ['-c fsync=off', '-c synchronous_commit=off', '-c full_page_writes=off'] : []),
+    ...(opts.throwaway && !opts.durable ? ['-c fsync=off', '-c synchronous_commit=off', '-c full_page_writes=off'] : []),
     ...(opts.settings ?? []).map((x) => `-c ${x}`),
   ].join(' ')
   fs.mkdirSync(path.dirname(opts.logFile), { recursive: true })
@@ -221,11 +223,22 @@ export interface ThrowawayCluster {
   remove(): void
 }
 
+export interface ThrowawayOptions {
+  /** More server settings, each as `name=value`. */
+  settings?: string[]
+  /**
+   * Keep fsync, synchronous commit and full-page writes on, as the cluster of `npm start` has them: for a benchmark
+   * whose answer depends on what a commit costs. Off by default (the tests do not need their data to survive a crash).
+   */
+  durable?: boolean
+}
+
 /**
  * A throwaway cluster in a new temporary folder on a free loopback port, with `database` and the application role
- * created in it, for the tests and the benchmarks. Never for real data (fsync is off). The caller migrates.
+ * created in it, for the tests and the benchmarks. Never for real data (fsync is off unless `durable`). The caller
+ * migrates.
  */
-export async function startThrowawayCluster(prefix: string, database: string, settings: string[] = []): Promise<ThrowawayCluster> {
+export async function startThrowawayCluster(prefix: string, database: string, { settings = [], durable = false }: ThrowawayOptions = {}): Promise<ThrowawayCluster> {
   const bin = ensurePostgresInstalled()
   const root = fs.mkdtempSync(path.join(os.tmpdir(), prefix))
   fs.chmodSync(root, 0o755)
@@ -241,7 +254,7 @@ export async function startThrowawayCluster(prefix: string, database: string, se
   }
   try {
     initCluster(bin, dataDir)
-    startCluster(bin, { dataDir, port, logFile, throwaway: true, settings })
+    startCluster(bin, { dataDir, port, logFile, throwaway: true, durable, settings })
     ensureDatabase(bin, port, database)
     ensureAppRole(bin, port)
   } catch (err) {
