@@ -6,6 +6,7 @@ import type { Pool } from 'pg'
 import type { DataSource } from 'typeorm'
 import type { Config } from './config'
 import { createPassport } from './auth/passport'
+import { sessionWithUser } from './auth/session-user'
 import { errorHandler, notFoundHandler } from './errors/error-handler'
 import { requireAuth } from './middleware/auth'
 import { serveClient } from './middleware/client-assets'
@@ -70,23 +71,27 @@ export function createApp({ config, db, services = createAppServices(config, db)
     await db.query('SELECT 1')
     res.json({ status: 'ok', database: 'up' })
   })
+  const sessionStore = throttleTouch(new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60 }))
   api.use(
-    session({
-      name: SESSION_COOKIE,
-      store: throttleTouch(new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60 })),
-      secret: config.SESSION_SECRET!,
-      resave: false,
-      saveUninitialized: false,
-      // The cookie slides on every answer; the stored expiry is written at most once a minute (throttleTouch).
-      rolling: true,
-      cookie: {
-        httpOnly: true,
-        sameSite: 'lax',
-        secure: config.COOKIE_SECURE,
-        maxAge: config.SESSION_MAX_AGE_HOURS * 3600_000,
-        path: '/',
-      },
-    }),
+    sessionWithUser(
+      sessionStore,
+      session({
+        name: SESSION_COOKIE,
+        store: sessionStore,
+        secret: config.SESSION_SECRET!,
+        resave: false,
+        saveUninitialized: false,
+        // The cookie slides on every answer; the stored expiry is written at most once a minute (throttleTouch).
+        rolling: true,
+        cookie: {
+          httpOnly: true,
+          sameSite: 'lax',
+          secure: config.COOKIE_SECURE,
+          maxAge: config.SESSION_MAX_AGE_HOURS * 3600_000,
+          path: '/',
+        },
+      }),
+    ),
   )
   api.use(passport.initialize())
   api.use(passport.session())

@@ -2,6 +2,8 @@ import { Passport } from 'passport'
 import { Strategy as LocalStrategy } from 'passport-local'
 import { AppError } from '../errors/app-error'
 import type { UserService } from '../services/user.service'
+import type { Request } from 'express'
+import { isPersonId, joinedSessionUser } from './session-user'
 
 /** A passport instance of the app's own (not the global one), so every app built in tests is independent. */
 export type AppPassport = InstanceType<typeof Passport>
@@ -17,7 +19,12 @@ export function createPassport(users: UserService): AppPassport {
     }),
   )
   passport.serializeUser((user, done) => done(null, user.id))
-  passport.deserializeUser((id: string, done) => {
+  passport.deserializeUser((req: Request, id: unknown, done: (err: unknown, user?: Express.User | false) => void) => {
+    // A session naming no person id (tampered with, or from an older layout) is no sign-in, and never reaches SQL.
+    if (!isPersonId(id)) return done(null, false)
+    // Read with the session when the store could (server/auth/session-user.ts): no second statement.
+    const known = joinedSessionUser(req, id)
+    if (known !== undefined) return done(null, known ?? false)
     users
       .sessionUser(id)
       .then((user) => done(null, user ?? false))

@@ -8,6 +8,17 @@ import { recordAudit } from './audit.service'
 
 export const INVALID_CREDENTIALS = 'Email or password is incorrect, or the account is not active.'
 
+/** The columns of the signed-in view of a person, from `app_user u` and `organization o`: one place for both readers. */
+export const SESSION_USER_COLUMNS = 'u.id, u.email, u.display_name, u.role, o.name AS organization_name'
+export interface SessionUserRow { id: string; email: string; display_name: string; role: SessionUser['role']; organization_name: string }
+export const toSessionUser = (row: SessionUserRow): SessionUser => ({
+  id: row.id,
+  email: row.email,
+  displayName: row.display_name,
+  role: row.role,
+  organizationName: row.organization_name,
+})
+
 export interface Actor {
   id: string
   ip?: string | null
@@ -32,15 +43,12 @@ export class UserService {
 
   /** The signed-in view of a user, or null when the account is gone or deactivated. */
   async sessionUser(id: string): Promise<SessionUser | null> {
-    // Once per request (passport's deserializeUser): one statement, the organisation joined.
-    const [user] = (await this.db.query(
-      `SELECT u.id, u.email, u.display_name, u.role, o.name AS organization_name
-         FROM app_user u JOIN organization o ON o.id = u.organization_id
-        WHERE u.id = $1 AND u.active`,
+    // Once per request when the session store has not read the person with the session (server/auth/session-user.ts).
+    const [row] = (await this.db.query(
+      `SELECT ${SESSION_USER_COLUMNS} FROM app_user u JOIN organization o ON o.id = u.organization_id WHERE u.id = $1 AND u.active`,
       [id],
-    )) as { id: string; email: string; display_name: string; role: SessionUser['role']; organization_name: string }[]
-    if (!user) return null
-    return { id: user.id, email: user.email, displayName: user.display_name, role: user.role, organizationName: user.organization_name }
+    )) as SessionUserRow[]
+    return row ? toSessionUser(row) : null
   }
 
   /** Checks credentials; one answer for unknown, wrong and deactivated so nobody can probe accounts. */

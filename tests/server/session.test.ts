@@ -181,6 +181,27 @@ describe('GET and DELETE /api/session', () => {
 
     expect((await techAgent.get('/api/session')).status).toBe(401)
   })
+
+  it('when a signed-in person is renamed or changes role, then the very next request sees it (read with the session, not kept)', async () => {
+    const org = await makeOrganization(ctx.db)
+    const tech = await makeUser(ctx.db, org, 'technician')
+    const agent = await signedInAgent(ctx.app, tech)
+    expect((await agent.get('/api/session').expect(200)).body.user).toMatchObject({ role: 'technician' })
+
+    await ctx.db.query(`UPDATE app_user SET role = 'owner_rep', display_name = 'Renamed Person' WHERE id = $1`, [tech.id])
+    expect((await agent.get('/api/session').expect(200)).body.user).toMatchObject({ id: tech.id, role: 'owner_rep', displayName: 'Renamed Person', organizationName: org.name })
+  })
+
+  it('when a stored session names no person, or something that is not a person id, then it is signed out (401), never a 500', async () => {
+    const org = await makeOrganization(ctx.db)
+    const tech = await makeUser(ctx.db, org, 'technician')
+    const agent = await signedInAgent(ctx.app, tech)
+    for (const passport of [{}, { user: 'not-a-uuid' }, { user: '00000000-0000-4000-8000-000000000000' }, { user: 42 }]) {
+      await ctx.db.query(`UPDATE session SET sess = jsonb_set(sess::jsonb, '{passport}', $1::jsonb)::json`, [JSON.stringify(passport)])
+      const res = await agent.get('/api/session')
+      expect(res.status, JSON.stringify(passport)).toBe(401)
+    }
+  })
 })
 
 describe('unknown API routes', () => {
