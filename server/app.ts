@@ -75,6 +75,7 @@ export function createApp({ config, db, services = createAppServices(config, db)
   api.use(
     sessionWithUser(
       sessionStore,
+      pool,
       session({
         name: SESSION_COOKIE,
         store: sessionStore,

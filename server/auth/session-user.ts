@@ -5,6 +5,7 @@
 // session whose person changed since). The person is as fresh as with two statements: read in the same request.
 import type { Request, RequestHandler } from 'express'
 import type { SessionData, Store } from 'express-session'
+import type { Pool } from 'pg'
 import type { SessionUser } from '@shared/types/api'
 import { SESSION_USER_COLUMNS, toSessionUser, type SessionUserRow } from '../services/user.service'
 
@@ -15,10 +16,6 @@ interface Joined {
 }
 const joined = new WeakMap<Request, Joined>()
 
-/** connect-pg-simple's store: `query` answers the first row; the table is its documented one, named `session`. */
-interface PgSessionStore extends Store {
-  query(text: string, params: unknown[], fn: (err: Error | null, row?: Record<string, unknown>) => void): void
-}
 
 const UUID = '^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$'
 /** Whether a session's person id is one at all (passport keeps whatever serializeUser gave it). */
@@ -32,18 +29,24 @@ const SESSION_WITH_USER = `
    WHERE s.sid = $1 AND s.expire >= now()`
 
 /**
- * Wraps express-session's middleware and its store: the store's `get` reads the session and its person in one statement.
+ * Wraps express-session's middleware and its store (connect-pg-simple's, on `pool`): the store's `get` reads the session
+ * and its person in one statement.
  * express-session calls `get` synchronously inside its middleware, so the request being served is known there; were it
  * ever called otherwise, the person is simply not left and passport asks for it.
  */
-export function sessionWithUser(sessionStore: Store, middleware: RequestHandler): RequestHandler {
-  // connect-pg-simple's own method, left out of its type declarations.
-  const store = sessionStore as PgSessionStore
-  if (typeof store.query !== 'function') throw new Error('sessionWithUser needs connect-pg-simple\'s store (it has no query method)')
+export function sessionWithUser(sessionStore: Store, pool: Pool, middleware: RequestHandler): RequestHandler {
+  // connect-pg-simple's store on `pool`, its table the documented one named `session`; its own get is replaced.
+  const store = sessionStore
   let serving: Request | null = null
   store.get = (sid: string, callback: (err: unknown, session?: SessionData | null) => void) => {
     const req = serving
-    store.query(SESSION_WITH_USER, [sid], (err, row) => {
+    // A named statement: PostgreSQL plans it once per connection instead of on every request.
+    // The callback runs on its own tick, outside the promise: what it throws is not swallowed as a rejection.
+    pool.query({ name: 'startproof-session-with-user', text: SESSION_WITH_USER, values: [sid] }).then(
+      ({ rows: [row] }) => process.nextTick(read, null, row),
+      (err: Error) => process.nextTick(read, err),
+    )
+    function read(err: Error | null, row?: Record<string, unknown>) {
       if (err) return callback(err)
       if (!row) return callback(null, null)
       let sess: SessionData & { passport?: { user?: unknown } }
@@ -57,7 +60,7 @@ export function sessionWithUser(sessionStore: Store, middleware: RequestHandler)
         joined.set(req, { id, user: row.user_id ? toSessionUser({ ...(row as unknown as SessionUserRow), id: String(row.user_id) }) : null })
       }
       callback(null, sess)
-    })
+    }
   }
   return (req, res, next) => {
     serving = req

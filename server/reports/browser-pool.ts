@@ -49,7 +49,8 @@ export async function launchReportBrowser(options: { executablePath?: string; ti
       browser,
       async dispose() {
         await browser.close().catch(() => browser.process()?.kill('SIGKILL'))
-        fs.rmSync(userDataDir, { recursive: true, force: true })
+        // Chromium's helpers may still be writing the profile for a moment after close: retry, and never throw from here.
+        await fs.promises.rm(userDataDir, { recursive: true, force: true, maxRetries: 5, retryDelay: 100 }).catch(() => undefined)
       },
     }
   } catch (err) {
