@@ -16,14 +16,14 @@ interface Joined {
 }
 const joined = new WeakMap<Request, Joined>()
 
-
 const UUID = '^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$'
 /** Whether a session's person id is one at all (passport keeps whatever serializeUser gave it). */
-export const isPersonId = (id: unknown): id is string => typeof id === 'string' && new RegExp(UUID).test(id)
+const UUID_PATTERN = new RegExp(UUID)
+export const isPersonId = (id: unknown): id is string => typeof id === 'string' && UUID_PATTERN.test(id)
 // The person id passport keeps in the session, as a uuid when it is one (a cast of anything else would fail the read).
 const PERSON_ID = `CASE WHEN s.sess -> 'passport' ->> 'user' ~ '${UUID}' THEN (s.sess -> 'passport' ->> 'user')::uuid END`
 const SESSION_WITH_USER = `
-  SELECT s.sess, u.id AS user_id, ${SESSION_USER_COLUMNS.replace('u.id, ', '')}
+  SELECT s.sess, ${SESSION_USER_COLUMNS}
     FROM session s
     LEFT JOIN (app_user u JOIN organization o ON o.id = u.organization_id) ON u.id = ${PERSON_ID} AND u.active
    WHERE s.sid = $1 AND s.expire >= now()`
@@ -34,9 +34,8 @@ const SESSION_WITH_USER = `
  * express-session calls `get` synchronously inside its middleware, so the request being served is known there; were it
  * ever called otherwise, the person is simply not left and passport asks for it.
  */
-export function sessionWithUser(sessionStore: Store, pool: Pool, middleware: RequestHandler): RequestHandler {
+export function sessionWithUser(store: Store, pool: Pool, middleware: RequestHandler): RequestHandler {
   // connect-pg-simple's store on `pool`, its table the documented one named `session`; its own get is replaced.
-  const store = sessionStore
   let serving: Request | null = null
   store.get = (sid: string, callback: (err: unknown, session?: SessionData | null) => void) => {
     const req = serving
@@ -57,7 +56,8 @@ export function sessionWithUser(sessionStore: Store, pool: Pool, middleware: Req
       }
       const id = sess.passport?.user
       if (req && isPersonId(id)) {
-        joined.set(req, { id, user: row.user_id ? toSessionUser({ ...(row as unknown as SessionUserRow), id: String(row.user_id) }) : null })
+        // The person's columns are null when the session names nobody active (the LEFT JOIN found no one).
+        joined.set(req, { id, user: row.id ? toSessionUser(row as unknown as SessionUserRow) : null })
       }
       callback(null, sess)
     }
