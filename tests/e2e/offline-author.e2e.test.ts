@@ -4,7 +4,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { HTTPRequest, Page } from 'puppeteer-core'
 import type { RunDetail } from '../../shared/types/run'
 import { DEMO_PEOPLE } from '../../server/db/demo-data'
-import { freshPage, signIn, startProduct, type RunningProduct } from '../helpers/product'
+import { freshPage, signIn, signOutFromMenu, startProduct, type RunningProduct } from '../helpers/product'
 
 let product: RunningProduct
 
@@ -29,13 +29,6 @@ async function typeInto(page: Page, selector: string, text: string) {
   await page.click(selector, { count: 3 })
   await page.keyboard.press('Backspace')
   await page.type(selector, text)
-}
-
-async function signOut(page: Page) {
-  await page.click(sel('user-menu'))
-  await page.waitForSelector(sel('sign-out'), { visible: true })
-  await page.click(sel('sign-out'))
-  await page.waitForSelector('input[data-test=email]')
 }
 
 async function api<T>(page: Page, url: string): Promise<T> {
@@ -111,7 +104,7 @@ describe('offline changes on a shared tablet keep their author', { timeout: 180_
     await page.waitForFunction(() => /Offline — 3 changes kept on this device/.test(document.querySelector('[data-test=run-save-label]')?.textContent ?? ''), { timeout: 15_000 })
 
     // Sign-out with no connection signs out on the tablet; the sign-in page says whose changes wait.
-    await signOut(page)
+    await signOutFromMenu(page)
     await page.waitForSelector(sel('waiting-author'))
     expect(await waitingText(page)).toEqual(['3 changes by Rafe Okafor are waiting on this device; they are sent when that person signs in again.'])
     expect(await page.evaluate(() => localStorage.getItem('startproof:sign-out-pending'))).not.toBeNull()
@@ -149,7 +142,7 @@ describe('offline changes on a shared tablet keep their author', { timeout: 180_
     for (const id of Object.keys(OFFLINE)) expect(asInes.readings[id], id).toMatchObject({ entry: null, version: 0, updatedByName: null })
     expect((await readingEvents(page, runId)).map((e) => [e.actor, e.target])).toEqual([['Ines Marlow', `${runId}/chwEntering`]])
 
-    await signOut(page)
+    await signOutFromMenu(page)
     await page.waitForSelector(sel('waiting-author'))
     expect(await waitingText(page)).toEqual(['3 changes by Rafe Okafor are waiting on this device; they are sent when that person signs in again.'])
     expect(await keptRuns(page)).toEqual([`${rafeId}/${runId}`])
@@ -179,7 +172,7 @@ describe('offline changes on a shared tablet keep their author', { timeout: 180_
     ])
 
     // Nothing waits any more, so nothing of Rafe's is kept once he signs out.
-    await signOut(page)
+    await signOutFromMenu(page)
     await page.waitForSelector('.sign-in[data-waiting-read=true]')
     expect(await page.$(sel('waiting-changes'))).toBeNull()
     expect(await keptRuns(page)).toEqual([])

@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { demoPerson as person, freshPage as newPage, signIn as signInAs, startProduct, type RunningProduct } from '../helpers/product'
+import { demoPerson as person, freshPage as newPage, signIn as signInAs, signOutFromMenu, startProduct, type RunningProduct } from '../helpers/product'
 import type { Page } from 'puppeteer-core'
 
 let product: RunningProduct
@@ -96,10 +96,7 @@ describe('signing in through the browser', { timeout: 60_000 }, () => {
 
     // The dialog's modal layer fades out after saving; a click before it has gone would land on it.
     await page.waitForSelector('.el-overlay-dialog', { hidden: true })
-    await page.click('[data-test=user-menu]')
-    await page.waitForSelector('[data-test=sign-out]', { visible: true })
-    await page.click('[data-test=sign-out]')
-    await page.waitForSelector('input[data-test=email]')
+    await signOutFromMenu(page)
     await page.goto(`${base}/people`, { waitUntil: 'networkidle0' })
     expect(new URL(page.url()).pathname).toBe('/sign-in')
 

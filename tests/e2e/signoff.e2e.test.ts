@@ -4,7 +4,7 @@ import os from 'node:os'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Page } from 'puppeteer-core'
-import { bodyText, demoPerson, freshPage, signIn, startProduct, type RunningProduct } from '../helpers/product'
+import { bodyText, demoPerson, freshPage, signIn, signOutFromMenu, startProduct, type RunningProduct } from '../helpers/product'
 
 let product: RunningProduct
 
@@ -109,10 +109,7 @@ describe('sign-off in the browser', { timeout: 150_000 }, () => {
     expect(await page.$(sel('sign-performer'))).toBeNull()
 
     // Sign out; the owner's representative signs in on the same device.
-    await page.click(sel('user-menu'))
-    await page.waitForSelector(sel('sign-out'), { visible: true })
-    await page.click(sel('sign-out'))
-    await page.waitForSelector('input[data-test=email]', { visible: true })
+    await signOutFromMenu(page)
     await signIn(product, page, rep.email, rep.password)
 
     // Their page lists the run waiting for them; they open it and accept.

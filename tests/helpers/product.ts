@@ -81,4 +81,21 @@ export async function signIn(product: RunningProduct, page: Page, email: string,
   await page.click('[data-test=sign-in]')
 }
 
+/**
+ * Opens the user menu and signs out. The menu grows in (a scale transition): a click aimed while it is still growing
+ * lands on whatever item is under that point once it has grown, so the item is clicked only once it stands still.
+ */
+export async function signOutFromMenu(page: Page) {
+  await page.click('[data-test=user-menu]')
+  await page.waitForSelector('[data-test=sign-out]', { visible: true })
+  await page.waitForFunction(() => {
+    const item = document.querySelector('[data-test=sign-out]')
+    const popper = item?.closest('.el-popper')
+    if (!item || !popper) return false
+    return popper.getAnimations({ subtree: true }).length === 0 && !/-(enter|leave)-(active|from|to)/.test(popper.className)
+  })
+  await page.click('[data-test=sign-out]')
+  await page.waitForSelector('input[data-test=email]', { visible: true })
+}
+
 export const bodyText = (page: Page) => page.evaluate(() => document.body.innerText)
