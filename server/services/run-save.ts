@@ -41,23 +41,34 @@ export interface LockedRun {
   duplicate: boolean
   /** The run's steps marked not applicable (or otherwise set aside). */
   na_steps: { stepId: string; disposition: unknown; notApplicable: boolean; naReason: string | null }[]
-  /** Every reading of the run; `evaluation` only for the fields asked for (null: every field). */
+  /**
+   * Every reading of the run. What judging and counting read (entry, verdict, value, disposition) comes for all; the
+   * rest of a reading (evaluation, version, justification, who changed it and when) only for the fields asked for, the
+   * ones a save can change or answer with (`detailed`).
+   */
   readings: ReadingRow[]
+  /** The fields whose readings came whole (every field when all were asked for). */
+  detailed: ReadonlySet<string>
 }
+
+/** A reading as the save's first statement sends it for every field: [field, entry, verdict, value, disposition, set aside, reason]. */
+type CompactReading = [string, Reading['entry'], string, number | null, Reading['disposition'], boolean, string | null]
+/** The rest of a reading, sent only for the fields asked for. */
+type ReadingDetail = Pick<Reading, 'fieldId' | 'evaluation' | 'justification' | 'version' | 'updatedBy'> & { updatedAt: string | null; updatedByName: string | null }
 
 /**
  * One statement: the run row locked (FOR UPDATE), its project's units and site, equipment design point, version,
- * access, whether the change was applied before, its set-aside steps, and its readings with their authors' names. The
- * stored evaluations (the bulk of a reading) come only for `evaluationsOf`, the fields a save can change; null asks for all.
+ * access, whether the change was applied before, its set-aside steps, and its readings: compact for every field, whole
+ * (with their authors' names) only for `detailsOf`, the fields a save can change; null asks for all of them whole.
  */
 export async function lockedRunForChange(
   tx: EntityManager,
   user: SessionUser,
   runId: string,
   change: { changeId: string; target: 'reading' | 'step'; targetId: string },
-  evaluationsOf: ReadonlySet<string> | null,
+  detailsOf: ReadonlySet<string> | null,
 ): Promise<LockedRun | null> {
-  const rows = await named<Omit<LockedRun, 'readings'> & { readings: (Omit<ReadingRow, 'updatedAt'> & { updatedAt: string | null })[] | null }>(
+  const rows = await named<Omit<LockedRun, 'readings' | 'detailed'> & { readings: CompactReading[] | null; details: ReadingDetail[] | null }>(
     tx,
     'startproof-locked-run-for-change',
     `SELECT r.id, r.project_id, r.template_version_id, r.state, v.number AS version_number, t.name AS template_name,
@@ -69,11 +80,12 @@ export async function lockedRunForChange(
             EXISTS (SELECT 1 FROM run_change c WHERE c.id = $4 AND c.run_id = r.id AND c.target = $5 AND c.target_id = $6) AS duplicate,
             COALESCE((SELECT json_agg(json_build_object('stepId', s.step_id, 'disposition', s.disposition, 'notApplicable', s.not_applicable, 'naReason', s.na_reason))
                         FROM run_step s WHERE s.run_id = r.id AND s.not_applicable), '[]'::json) AS na_steps,
-            (SELECT json_agg(json_build_object('runId', rd.run_id, 'fieldId', rd.field_id, 'entry', rd.entry, 'canonicalValue', rd.canonical_value,
-                    'verdict', rd.verdict, 'evaluation', CASE WHEN $7::text[] IS NULL OR rd.field_id = ANY($7::text[]) THEN rd.evaluation END,
-                    'disposition', rd.disposition, 'notApplicable', rd.not_applicable, 'naReason', rd.na_reason, 'justification', rd.justification,
-                    'version', rd.version, 'updatedBy', rd.updated_by, 'updatedAt', rd.updated_at, 'updatedByName', u.display_name))
-               FROM reading rd LEFT JOIN app_user u ON u.id = rd.updated_by WHERE rd.run_id = r.id) AS readings
+            (SELECT json_agg(json_build_array(rd.field_id, rd.entry, rd.verdict, rd.canonical_value, rd.disposition, rd.not_applicable, rd.na_reason))
+               FROM reading rd WHERE rd.run_id = r.id) AS readings,
+            (SELECT json_agg(json_build_object('fieldId', rd.field_id, 'evaluation', rd.evaluation, 'justification', rd.justification, 'version', rd.version,
+                    'updatedBy', rd.updated_by, 'updatedAt', rd.updated_at, 'updatedByName', u.display_name))
+               FROM reading rd LEFT JOIN app_user u ON u.id = rd.updated_by
+              WHERE rd.run_id = r.id AND ($7::text[] IS NULL OR rd.field_id = ANY($7::text[]))) AS details
        FROM run r
        JOIN project p ON p.id = r.project_id
        JOIN equipment e ON e.id = r.equipment_id
@@ -81,11 +93,33 @@ export async function lockedRunForChange(
        JOIN checklist_template t ON t.id = v.template_id
       WHERE r.id = $1
         FOR UPDATE OF r`,
-    [runId, user.id, user.role, change.changeId, change.target, change.targetId, evaluationsOf ? [...evaluationsOf] : null],
+    [runId, user.id, user.role, change.changeId, change.target, change.targetId, detailsOf ? [...detailsOf] : null],
   )
   const row = rows[0]
   if (!row) return null
-  return { ...row, readings: (row.readings ?? []).map((r) => ({ ...r, updatedAt: r.updatedAt ? new Date(r.updatedAt) : null })) as ReadingRow[] }
+  const { readings: compact, details, ...run } = row
+  const detailByField = new Map((details ?? []).map((d) => [d.fieldId, d]))
+  const readings = (compact ?? []).map(([fieldId, entry, verdict, canonicalValue, disposition, notApplicable, naReason]): ReadingRow => {
+    const d = detailByField.get(fieldId)
+    return {
+      runId,
+      fieldId,
+      entry,
+      verdict,
+      canonicalValue,
+      disposition,
+      notApplicable,
+      naReason,
+      // A reading not asked for whole is only judged and counted from: its evaluation, version and author are not read.
+      evaluation: (d?.evaluation ?? null) as Reading['evaluation'],
+      justification: d?.justification ?? null,
+      version: d?.version ?? 0,
+      updatedBy: d?.updatedBy ?? null,
+      updatedAt: d?.updatedAt ? new Date(d.updatedAt) : null,
+      updatedByName: d?.updatedByName ?? null,
+    } as ReadingRow
+  })
+  return { ...run, readings, detailed: new Set(detailByField.keys()) }
 }
 
 export type ReadingRow = Reading & { updatedByName: string | null }

@@ -414,7 +414,7 @@ export class RunService {
   async setReading(user: SessionUser, runId: string, fieldId: string, input: ReadingChangeInput): Promise<ReadingSaved> {
     return this.db.transaction(async (tx) => {
       // A run's checklist version never changes: once known, the fields this save can change are known before the
-      // first statement, and only their stored evaluations are read.
+      // first statement, and only their readings are read whole (the rest only as judging and counting need them).
       const knownVersion = this.runVersions.get(runId)
       const knownDefinition = knownVersion ? this.definitions.get(knownVersion) : undefined
       const wanted = knownDefinition && fieldPlaces(knownDefinition).has(fieldId) ? dependentFields(knownDefinition, fieldId) : null
@@ -494,8 +494,10 @@ export class RunService {
         Object.assign(current, next, { version: current.version + 1, updatedBy: user.id, updatedAt: now })
         names.set(user.id, user.displayName)
       }
-      // Only the fields that read this one can change verdict (shared/rules/dependencies.ts).
-      const changed = rejudged({ definition, equipment: { designPoint: row.design_point }, project: row.project }, readings, naSteps, dependentFields(definition, fieldId))
+      // Only the fields that read this one can change verdict (shared/rules/dependencies.ts); they came whole.
+      const dependents = dependentFields(definition, fieldId)
+      for (const id of dependents) if (!row.detailed.has(id)) throw new Error(`The save of ${fieldId} read ${id} without its evaluation`)
+      const changed = rejudged({ definition, equipment: { designPoint: row.design_point }, project: row.project }, readings, naSteps, dependents)
       if (!unchanged && !changed.includes(current)) changed.unshift(current)
       const audit = unchanged
         ? null
