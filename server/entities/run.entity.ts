@@ -22,6 +22,10 @@ export class Run {
   @VersionColumn({ type: 'integer' })
   version: number
 
+  /** Counts every change to what a save judges by (readings, steps, verdicts, state): a save's optimistic check. */
+  @Column({ type: 'integer', default: 0 })
+  revision: number
+
   @Column({ type: 'uuid', name: 'started_by', nullable: true })
   startedBy: string | null
 

@@ -25,3 +25,10 @@ export function isOverloaded(err: unknown, depth = 0): boolean {
   if (typeof e.message === 'string' && /timeout exceeded when trying to connect/i.test(e.message)) return true
   return isOverloaded(e.driverError, depth + 1) || isOverloaded(e.cause, depth + 1)
 }
+
+/** True when a statement broke a unique constraint (SQLSTATE 23505): for a save, a change id applied meanwhile. */
+export function isUniqueViolation(err: unknown): boolean {
+  if (!err || typeof err !== 'object') return false
+  const e = err as { code?: unknown; driverError?: unknown }
+  return e.code === '23505' || isUniqueViolation(e.driverError)
+}

@@ -13,6 +13,7 @@ import { Dispositions1764710000000 } from './1764710000000-Dispositions'
 import { SiteBarometric1764720000000 } from './1764720000000-SiteBarometric'
 import { CheckSupersession1764730000000 } from './1764730000000-CheckSupersession'
 import { RunProgressAndAuditIndexes1764740000000 } from './1764740000000-RunProgressAndAuditIndexes'
+import { RunRevision1764750000000 } from './1764750000000-RunRevision'
 
 /** Every migration in order. Listed by hand so tsx, Vitest and the CLI all load the same classes without a glob. */
 export const migrations = [
@@ -25,4 +26,5 @@ export const migrations = [
   SiteBarometric1764720000000,
   CheckSupersession1764730000000,
   RunProgressAndAuditIndexes1764740000000,
+  RunRevision1764750000000,
 ]

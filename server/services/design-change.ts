@@ -192,6 +192,8 @@ export async function applyDesignChange(tx: EntityManager, runs: OpenRun[], chan
       return e ? { ...r, verdict: e.verdict, canonicalValue: e.canonical?.value ?? null } : r
     })
     await storeProgress(tx, run.runId, countRows(definition, counted, naStepRows).totals)
+    // A save that read this run before the re-judging must not write over it (run-save.ts, recordChange).
+    await tx.query(`UPDATE run SET revision = revision + 1 WHERE id = $1`, [run.runId])
     await recordAudit(tx, {
       actorId: change.actor.id,
       action: 'run.rejudged',
@@ -210,7 +212,7 @@ export async function applyDesignChange(tx: EntityManager, runs: OpenRun[], chan
     if (run.performerSignatureId) {
       await tx.getRepository(Signature).update(run.performerSignatureId, { voided: true, voidedAt: now, voidReason: reason })
     }
-    await tx.query(`UPDATE run SET state = 'returned', version = version + 1, updated_at = $2 WHERE id = $1`, [run.runId, now])
+    await tx.query(`UPDATE run SET state = 'returned', version = version + 1, revision = revision + 1, updated_at = $2 WHERE id = $1`, [run.runId, now])
     await recordAudit(tx, {
       actorId: change.actor.id,
       action: 'run.signature_voided',

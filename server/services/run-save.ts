@@ -14,24 +14,26 @@ import { evaluateAll } from './run-record'
  */
 
 /**
- * Sends a statement by name on the transaction's connection, so PostgreSQL parses and plans it once per connection
- * instead of on every save (TypeORM's `query` sends unnamed statements, planned every time: about 0.7 ms of a save,
- * measured with `SAVE_BENCH_PG_STATS=1 npm run bench:save`). Each name stands for one fixed text. Outside a
- * transaction it falls back to the manager's own query.
+ * Sends a statement by name on the caller's connection (a transaction's, or one taken for a save's two statements), so
+ * PostgreSQL parses and plans it once per connection instead of on every save (TypeORM's `query` sends unnamed
+ * statements, planned every time: about 0.7 ms of a save, measured with `SAVE_BENCH_PG_STATS=1 npm run bench:save`).
+ * Each name stands for one fixed text. A manager with no connection of its own falls back to its own query.
  */
 async function named<T>(tx: EntityManager, name: string, text: string, values: unknown[]): Promise<T[]> {
   const runner = tx.queryRunner
-  if (!runner?.isTransactionActive) return tx.query(text, values)
+  if (!runner || runner.isReleased) return tx.query(text, values)
   const client = (await runner.connect()) as PoolClient
   return (await client.query({ name, text, values })).rows as T[]
 }
 
-/** The run, locked for this change, with what it is judged by and whether the person may reach it. */
-export interface LockedRun {
+/** The run as a change reads it, with what it is judged by and whether the person may reach it. */
+export interface RunForChange {
   id: string
   project_id: string
   template_version_id: string
   state: RunState
+  /** The run's revision as read: a write without the lock lands only if it is unchanged. */
+  revision: number
   version_number: number
   template_name: string
   design_point: Equipment['designPoint']
@@ -57,21 +59,21 @@ type CompactReading = [string, Reading['entry'], string, number | null, Reading[
 type ReadingDetail = Pick<Reading, 'fieldId' | 'evaluation' | 'justification' | 'version' | 'updatedBy'> & { updatedAt: string | null; updatedByName: string | null }
 
 /**
- * One statement: the run row locked (FOR UPDATE), its project's units and site, equipment design point, version,
+ * One statement: the run row as it stands (its revision the check of the write that follows), its project's units and site, equipment design point, version,
  * access, whether the change was applied before, its set-aside steps, and its readings: compact for every field, whole
  * (with their authors' names) only for `detailsOf`, the fields a save can change; null asks for all of them whole.
  */
-export async function lockedRunForChange(
+export async function runForChange(
   tx: EntityManager,
   user: SessionUser,
   runId: string,
   change: { changeId: string; target: 'reading' | 'step'; targetId: string },
   detailsOf: ReadonlySet<string> | null,
-): Promise<LockedRun | null> {
-  const rows = await named<Omit<LockedRun, 'readings' | 'detailed'> & { readings: CompactReading[] | null; details: ReadingDetail[] | null }>(
+): Promise<RunForChange | null> {
+  const rows = await named<Omit<RunForChange, 'readings' | 'detailed'> & { readings: CompactReading[] | null; details: ReadingDetail[] | null }>(
     tx,
-    'startproof-locked-run-for-change',
-    `SELECT r.id, r.project_id, r.template_version_id, r.state, v.number AS version_number, t.name AS template_name,
+    'startproof-run-for-change',
+    `SELECT r.id, r.project_id, r.template_version_id, r.state, r.revision, v.number AS version_number, t.name AS template_name,
             e.design_point,
             json_build_object('unitSystem', p.unit_system, 'siteElevationM', p.site_elevation_m, 'barometricKpa', p.barometric_kpa) AS project,
             CASE WHEN $3 = 'admin'
@@ -91,8 +93,7 @@ export async function lockedRunForChange(
        JOIN equipment e ON e.id = r.equipment_id
        JOIN template_version v ON v.id = r.template_version_id
        JOIN checklist_template t ON t.id = v.template_id
-      WHERE r.id = $1
-        FOR UPDATE OF r`,
+      WHERE r.id = $1`,
     [runId, user.id, user.role, change.changeId, change.target, change.targetId, detailsOf ? [...detailsOf] : null],
   )
   const row = rows[0]
@@ -123,6 +124,15 @@ export async function lockedRunForChange(
 }
 
 export type ReadingRow = Reading & { updatedByName: string | null }
+
+/**
+ * One statement: the run's row lock for the rest of the transaction. Taken on its own, before the run is read: a
+ * statement that reads other rows and waits for the lock would see them as they were before the change it waited for
+ * (READ COMMITTED re-checks only the locked row), and judge from readings another save has since changed.
+ */
+export async function lockRun(tx: EntityManager, runId: string): Promise<void> {
+  await named(tx, 'startproof-lock-run', `SELECT 1 FROM run WHERE id = $1 FOR UPDATE`, [runId])
+}
 
 /** One statement: every reading of the run, with the name of whoever last changed each. */
 export async function readingRows(tx: EntityManager, runId: string): Promise<ReadingRow[]> {
@@ -203,8 +213,12 @@ function readingRecords(rows: Reading[], ownFieldId: string | null) {
 
 /**
  * One statement for everything a save writes: the saved field's new content (when `ownFieldId` is given) and every
- * changed verdict from one JSON record set, the change id (a retry of it is then answered as a duplicate), and, when
- * something changed, the audit event, the run's last-changed time and its counts.
+ * changed verdict from one JSON record set, the change id (a retry of it is then answered as a duplicate), the run's
+ * revision, and, when something changed, the audit event, the run's last-changed time and its counts.
+ *
+ * With `expected` (the revision and state the save read) it writes only if they are still the run's, as one atomic
+ * statement: a change committed in between, or one holding the row lock meanwhile, leaves it writing nothing, and it
+ * answers false. A save under the run's row lock always finds them unchanged; `expected` null writes regardless.
  */
 export async function recordChange(
   tx: EntityManager,
@@ -213,12 +227,17 @@ export async function recordChange(
   /** The run's counts after the change, kept in run_progress for the run list (null: unchanged). */
   progress: RunProgress | null,
   readings: { rows: Reading[]; ownFieldId: string | null } = { rows: [], ownFieldId: null },
-): Promise<void> {
+  expected: { revision: number; state: RunState } | null = null,
+): Promise<boolean> {
   // jsonb_to_recordset keeps a JSON null as the jsonb value 'null'; NULLIF stores it as SQL NULL, as the entity does.
-  await named(
+  const [row] = await named<{ written: number }>(
     tx,
     'startproof-record-change',
-    `WITH written AS (
+    `WITH guard AS (
+       UPDATE run SET revision = revision + 1, updated_at = CASE WHEN $14::boolean THEN $6::timestamptz ELSE updated_at END
+        WHERE id = $2 AND ($17::integer IS NULL OR (revision = $17::integer AND state = $18::text))
+       RETURNING id
+     ), written AS (
        UPDATE reading AS r SET
           evaluation = v.evaluation,
           verdict = v.verdict,
@@ -232,18 +251,19 @@ export async function recordChange(
           updated_by = CASE WHEN v.own THEN v.updated_by ELSE r.updated_by END,
           updated_at = CASE WHEN v.own THEN v.updated_at ELSE r.updated_at END
          FROM jsonb_to_recordset($16::jsonb) AS v(field_id text, own boolean, entry jsonb, disposition jsonb, not_applicable boolean, na_reason text,
-              justification text, version integer, updated_by uuid, updated_at timestamptz, evaluation jsonb, verdict text, canonical_value double precision)
-        WHERE r.run_id = $2 AND r.field_id = v.field_id
+              justification text, version integer, updated_by uuid, updated_at timestamptz, evaluation jsonb, verdict text, canonical_value double precision),
+              guard
+        WHERE r.run_id = guard.id AND r.field_id = v.field_id
      ), change AS (
-       INSERT INTO run_change (id, run_id, target, target_id, user_id, applied_at) VALUES ($1, $2, $3, $4, $5, $6)
+       INSERT INTO run_change (id, run_id, target, target_id, user_id, applied_at) SELECT $1, guard.id, $3, $4, $5, $6 FROM guard
      ), audit AS (
        INSERT INTO audit_event (actor_id, action, entity_type, entity_id, project_id, before, after, occurred_at)
-       SELECT $7, $8, $9, $10, $11, $12::jsonb, $13::jsonb, $6 WHERE $14::boolean
+       SELECT $7, $8, $9, $10, $11, $12::jsonb, $13::jsonb, $6 FROM guard WHERE $14::boolean
      ), progress AS (
-       INSERT INTO run_progress (run_id, progress) SELECT $2, $15::jsonb WHERE $15::jsonb IS NOT NULL
+       INSERT INTO run_progress (run_id, progress) SELECT guard.id, $15::jsonb FROM guard WHERE $15::jsonb IS NOT NULL
        ON CONFLICT (run_id) DO UPDATE SET progress = EXCLUDED.progress
      )
-     UPDATE run SET updated_at = $6 WHERE id = $2 AND $14::boolean`,
+     SELECT count(*)::integer AS written FROM guard`,
     [
       change.changeId,
       change.runId,
@@ -261,8 +281,11 @@ export async function recordChange(
       audit !== null,
       progress ? JSON.stringify(progress) : null,
       JSON.stringify(readingRecords(readings.rows, readings.ownFieldId)),
+      expected?.revision ?? null,
+      expected?.state ?? null,
     ],
   )
+  return row.written === 1
 }
 
 export type StepRow = RunStep & { updatedByName: string | null }

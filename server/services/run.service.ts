@@ -18,12 +18,13 @@ import {
   type RunSummary,
 } from '@shared/types/run'
 import { AppError } from '../errors/app-error'
+import { isUniqueViolation } from '../errors/database-errors'
 import { ChecklistTemplate, Equipment, Project, Reading, Report, Run, RunChange, RunStep, Signature, TemplateVersion } from '../entities'
 import { fieldErrors } from '../middleware/validate'
 import { recordAudit } from './audit.service'
 import { attachmentViews, countRows, displayNames, evaluateAll, findingViews, keptSnapshot, MissingSnapshotError, readingView, signedSnapshotHash, stepView } from './run-record'
 import { systemClock, type Clock } from './clock'
-import { lockedRunForChange, readingRows, recordChange, rejudged, stepRows, storeProgress } from './run-save'
+import { lockRun, readingRows, runForChange, recordChange, rejudged, stepRows, storeProgress } from './run-save'
 import type { ProjectService } from './project.service'
 
 /** The run page's first statement: the run with what it is shown and judged with, and whether the person may see it. */
@@ -406,19 +407,49 @@ export class RunService {
 
   /**
    * Saves one field's entry (or its not-applicable state), re-judges the fields that depend on it, and records the
-   * change, in one short transaction of two statements on one connection (four with BEGIN and COMMIT): the locked run
-   * with what it is judged by, whether this change id was applied before and its readings; then one statement writing
-   * the saved reading, every verdict that followed it, the change id, the audit event, the run's time and its counts.
-   * A photo field checks its attachments with one more. The answer carries the changed readings and the new progress.
+   * change in two statements on one connection, with no transaction held between them: the run as it stands (what it is
+   * judged by, whether this change id was applied before, its readings), then one statement writing the saved reading,
+   * every verdict that followed it, the change id, the audit event, the run's time, revision and counts, only if the
+   * run's revision is still the one read. If another change came in between, the save is done again under the run's
+   * row lock (a transaction: the lock, then the same two statements), as is a run's first save in this process (its
+   * checklist not yet known) and a photo field's (its attachments checked with one more). The answer carries the changed readings and the
+   * new progress.
    */
   async setReading(user: SessionUser, runId: string, fieldId: string, input: ReadingChangeInput): Promise<ReadingSaved> {
-    return this.db.transaction(async (tx) => {
-      // A run's checklist version never changes: once known, the fields this save can change are known before the
-      // first statement, and only their readings are read whole (the rest only as judging and counting need them).
-      const knownVersion = this.runVersions.get(runId)
-      const knownDefinition = knownVersion ? this.definitions.get(knownVersion) : undefined
-      const wanted = knownDefinition && fieldPlaces(knownDefinition).has(fieldId) ? dependentFields(knownDefinition, fieldId) : null
-      const row = await lockedRunForChange(tx, user, runId, { changeId: input.changeId, target: 'reading', targetId: fieldId }, wanted)
+    // A run's checklist version never changes: once known, the fields this save can change are known before the
+    // first statement, and only their readings are read whole (the rest only as judging and counting need them).
+    const knownVersion = this.runVersions.get(runId)
+    const knownDefinition = knownVersion ? this.definitions.get(knownVersion) : undefined
+    const knownPlace = knownDefinition ? fieldPlaces(knownDefinition).get(fieldId) : undefined
+    const wanted = knownDefinition && knownPlace ? dependentFields(knownDefinition, fieldId) : null
+    if (wanted && knownPlace?.field.kind !== 'photo') {
+      const runner = this.db.createQueryRunner()
+      try {
+        const saved = await this.saveReading(runner.manager, user, runId, fieldId, input, wanted, false)
+        if (saved) return saved
+      } catch (err) {
+        // The same change id applied meanwhile (a retry racing its first try): the locked save answers it as a duplicate.
+        if (!isUniqueViolation(err)) throw err
+      } finally {
+        await runner.release()
+      }
+    }
+    return (await this.db.transaction((tx) => this.saveReading(tx, user, runId, fieldId, input, wanted, true)))!
+  }
+
+  /** One try of a save (`setReading`): under the run's row lock, or optimistically (null when the run changed meanwhile). */
+  private async saveReading(
+    tx: EntityManager,
+    user: SessionUser,
+    runId: string,
+    fieldId: string,
+    input: ReadingChangeInput,
+    wanted: ReadonlySet<string> | null,
+    lock: boolean,
+  ): Promise<ReadingSaved | null> {
+    {
+      if (lock) await lockRun(tx, runId)
+      const row = await runForChange(tx, user, runId, { changeId: input.changeId, target: 'reading', targetId: fieldId }, wanted)
       if (!row || !row.allowed || !this.mayRead(user, row.state)) throw AppError.notFound('Run')
       assertAuthor(user, input.authorId)
       const definition = await this.definitionOf(tx, row.template_version_id)
@@ -512,12 +543,16 @@ export class RunService {
             occurredAt: now,
           }
       const saved = answer(changed.length ? changed : [current])
-      await recordChange(tx, { changeId: input.changeId, runId, target: 'reading', targetId: fieldId, userId: user.id, at: now }, audit, changed.length ? saved.progress : null, {
-        rows: changed,
-        ownFieldId: unchanged ? null : fieldId,
-      })
-      return saved
-    })
+      const written = await recordChange(
+        tx,
+        { changeId: input.changeId, runId, target: 'reading', targetId: fieldId, userId: user.id, at: now },
+        audit,
+        changed.length ? saved.progress : null,
+        { rows: changed, ownFieldId: unchanged ? null : fieldId },
+        { revision: row.revision, state: row.state },
+      )
+      return written ? saved : null
+    }
   }
 
   /** Which checklist version each recently saved run is on (it never changes for a run). */

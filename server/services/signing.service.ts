@@ -188,7 +188,7 @@ export class SigningService {
         // The report row and its number are part of the acceptance: both commit, or neither.
         reportId = (await this.deps.reports.issueInTransaction(tx, runId, snapshotSha256, now)).id
       }
-      await tx.query(`UPDATE run SET state = $2, version = version + 1, updated_at = $3 WHERE id = $1`, [runId, state, now])
+      await tx.query(`UPDATE run SET state = $2, version = version + 1, revision = revision + 1, updated_at = $3 WHERE id = $1`, [runId, state, now])
       if (meaning === 'performed_by') await this.notifyOwnerReps(tx, user, runId, ctx)
       return { signature, reportId }
     })
@@ -239,7 +239,7 @@ export class SigningService {
       if (performer) {
         await tx.getRepository(Signature).update(performer.id, { voided: true, voidedAt: now, voidReason: `Returned by ${user.displayName}: ${input.comments}` })
       }
-      await tx.query(`UPDATE run SET state = 'returned', version = version + 1, updated_at = $2 WHERE id = $1`, [runId, now])
+      await tx.query(`UPDATE run SET state = 'returned', version = version + 1, revision = revision + 1, updated_at = $2 WHERE id = $1`, [runId, now])
       await recordAudit(tx, {
         actorId: user.id,
         action: 'run.return',

@@ -47,7 +47,11 @@ export function transactionScoped(tx: EntityManager): DataSource {
     last = next.catch(() => undefined)
     return next
   }) as typeof runner.query
-  return new Proxy(tx, { get: (target, prop, receiver) => (prop === 'manager' ? target : Reflect.get(target, prop, receiver)) }) as unknown as DataSource
+  // A service that takes a connection of its own for a few statements (a save) is handed the transaction's, kept open.
+  const ownRunner = { manager: tx, release: async () => undefined }
+  return new Proxy(tx, {
+    get: (target, prop, receiver) => (prop === 'manager' ? target : prop === 'createQueryRunner' ? () => ownRunner : Reflect.get(target, prop, receiver)),
+  }) as unknown as DataSource
 }
 
 /**
